@@ -1,0 +1,622 @@
+//! Linting a campaign: discovering rig files, loading each file once (catalogs are
+//! shared and cached), resolving, running the rules, applying settings and
+//! suppressions, and sorting the findings.
+
+use crate::finding::{Finding, Label, Severity};
+use crate::model::build;
+use crate::model::{Document, Role};
+use crate::resolve::{self, Rig};
+use crate::settings::{self, Level, Settings};
+use crate::source::yaml::{self, Node};
+use crate::source::{FileId, LineIndex, Sources, Span};
+use crate::suppress::{self, Suppression};
+use rayon::prelude::*;
+use std::collections::HashMap;
+use std::path::{Component, Path, PathBuf};
+use std::sync::{Arc, Mutex, OnceLock};
+
+/// The default largest file foldcheck reads (64 MiB).
+pub const DEFAULT_MAX_FILE_BYTES: u64 = 64 * 1024 * 1024;
+
+/// How to run.
+#[derive(Clone, Debug)]
+pub struct Options {
+    /// A settings file to use instead of discovering one.
+    pub settings: Option<PathBuf>,
+    /// Files larger than this are refused with a finding.
+    pub max_file_bytes: u64,
+    /// Keep each resolved rig in the outcome (for `diff` and `inspect`).
+    pub keep_rigs: bool,
+}
+
+impl Default for Options {
+    fn default() -> Self {
+        Options {
+            settings: None,
+            max_file_bytes: DEFAULT_MAX_FILE_BYTES,
+            keep_rigs: false,
+        }
+    }
+}
+
+/// Why a run could not do its job (exit status 2).
+#[derive(Debug)]
+pub enum Fatal {
+    /// A path on the command line does not exist.
+    NoSuchPath(PathBuf),
+    /// A path could not be read (permissions, not a regular file …).
+    Unreadable(PathBuf, String),
+    /// The settings file is invalid.
+    Settings(settings::SettingsError),
+}
+
+impl std::fmt::Display for Fatal {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            Fatal::NoSuchPath(p) => write!(f, "{}: no such file or directory", p.display()),
+            Fatal::Unreadable(p, why) => write!(f, "{}: {why}", p.display()),
+            Fatal::Settings(e) => write!(f, "{e}"),
+        }
+    }
+}
+
+/// A linted rig.
+#[derive(Debug)]
+pub struct RigOutcome {
+    /// The rig file.
+    pub file: FileId,
+    /// The rig, when it resolved and `keep_rigs` was set.
+    pub rig: Option<Rig>,
+}
+
+/// What a run found.
+#[derive(Debug)]
+pub struct Outcome {
+    /// Every file read.
+    pub sources: Sources,
+    /// Findings, sorted by file, line, column and rule.
+    pub findings: Vec<Finding>,
+    /// Rig files linted.
+    pub files: usize,
+    /// Channels in them.
+    pub channels: usize,
+    /// Per rig file, in path order.
+    pub rigs: Vec<RigOutcome>,
+}
+
+/// One loaded file: its text is in [`Sources`], its tree is kept for suppressions.
+struct Loaded {
+    file: FileId,
+    doc: Option<Document>,
+    findings: Vec<Finding>,
+    suppressions: Vec<Suppression>,
+}
+
+struct Ctx {
+    sources: Mutex<Sources>,
+    catalogs: Mutex<HashMap<PathBuf, Arc<OnceLock<Arc<Loaded>>>>>,
+    max_file_bytes: u64,
+}
+
+/// A rig file to lint, with its campaign root and settings.
+struct Job {
+    path: PathBuf,
+    display: String,
+    root: PathBuf,
+    settings: Arc<Settings>,
+}
+
+/// Lint the given paths (files and directories).
+pub fn run(paths: &[PathBuf], opts: &Options) -> Result<Outcome, Fatal> {
+    let jobs = discover(paths, opts)?;
+    let ctx = Ctx {
+        sources: Mutex::new(Sources::new()),
+        catalogs: Mutex::new(HashMap::new()),
+        max_file_bytes: opts.max_file_bytes,
+    };
+    let results: Vec<Result<RigResult, Fatal>> = jobs
+        .par_iter()
+        .map(|job| lint_rig(&ctx, job, opts.keep_rigs))
+        .collect();
+
+    let mut findings = Vec::new();
+    let mut suppressions: Vec<Suppression> = Vec::new();
+    let mut channels = 0;
+    let mut rigs = Vec::new();
+    let mut file_settings: HashMap<FileId, Arc<Settings>> = HashMap::new();
+    for r in results {
+        let (loaded, f, n, rig, settings) = r?;
+        file_settings.insert(loaded.file, settings);
+        findings.extend(loaded.findings);
+        findings.extend(f);
+        suppressions.extend(loaded.suppressions);
+        channels += n;
+        rigs.push(RigOutcome {
+            file: loaded.file,
+            rig,
+        });
+    }
+    // Catalog findings, once each.
+    let catalogs = ctx.catalogs.into_inner().expect("no thread panicked");
+    for cell in catalogs.values() {
+        if let Some(c) = cell.get() {
+            findings.extend(c.findings.iter().cloned());
+            suppressions.extend(c.suppressions.iter().cloned());
+        }
+    }
+    let sources = ctx.sources.into_inner().expect("no thread panicked");
+
+    // Settings: levels per file (a catalog takes the settings of the first rig seen).
+    let default_settings = Arc::new(Settings::default());
+    findings.retain_mut(|f| {
+        let s = file_settings
+            .get(&f.primary.span.file)
+            .unwrap_or(&default_settings);
+        match s.level(f.rule, f.severity) {
+            Level::Off => false,
+            Level::On(sev) => {
+                f.severity = sev;
+                true
+            }
+        }
+    });
+    dedup(&mut findings);
+    let mut extra = Vec::new();
+    suppress::apply(&mut suppressions, &mut findings, &mut extra);
+    findings.extend(extra);
+    sort(&sources, &mut findings);
+    rigs.sort_by(|a, b| {
+        sources
+            .get(a.file)
+            .display
+            .cmp(&sources.get(b.file).display)
+    });
+    Ok(Outcome {
+        sources,
+        files: jobs.len(),
+        channels,
+        findings,
+        rigs,
+    })
+}
+
+/// Sort findings by file path, line, column and rule (the output order).
+pub fn sort(sources: &Sources, findings: &mut [Finding]) {
+    findings.sort_by(|a, b| {
+        let fa = sources.get(a.primary.span.file);
+        let fb = sources.get(b.primary.span.file);
+        fa.display
+            .cmp(&fb.display)
+            .then(a.primary.span.start.cmp(&b.primary.span.start))
+            .then(a.rule.cmp(b.rule))
+            .then(a.message.cmp(&b.message))
+    });
+}
+
+fn dedup(findings: &mut Vec<Finding>) {
+    let mut seen = std::collections::HashSet::new();
+    findings.retain(|f| seen.insert((f.rule, f.primary.span, f.message.clone())));
+}
+
+/// Turn the command line's paths into rig-file jobs.
+fn discover(paths: &[PathBuf], opts: &Options) -> Result<Vec<Job>, Fatal> {
+    let forced = match &opts.settings {
+        Some(p) => Some(Arc::new(settings::load(p).map_err(Fatal::Settings)?)),
+        None => None,
+    };
+    let mut cache: HashMap<PathBuf, Arc<Settings>> = HashMap::new();
+    let mut settings_for =
+        |dir: &Path, fallback_root: &Path| -> Result<(PathBuf, Arc<Settings>), Fatal> {
+            if let (Some(s), Some(p)) = (&forced, &opts.settings) {
+                let root = p.parent().map(Path::to_path_buf).unwrap_or_default();
+                return Ok((absolute(&root), s.clone()));
+            }
+            let abs = absolute(dir);
+            match settings::discover(&abs) {
+                Some(file) => {
+                    let root = file.parent().map(Path::to_path_buf).unwrap_or_default();
+                    if let Some(s) = cache.get(&file) {
+                        return Ok((root, s.clone()));
+                    }
+                    let s = Arc::new(settings::load(&file).map_err(Fatal::Settings)?);
+                    cache.insert(file, s.clone());
+                    Ok((root, s))
+                }
+                None => Ok((absolute(fallback_root), Arc::new(Settings::default()))),
+            }
+        };
+    let mut jobs = Vec::new();
+    let mut seen = std::collections::HashSet::new();
+    for p in paths {
+        let meta = std::fs::metadata(p).map_err(|e| match e.kind() {
+            std::io::ErrorKind::NotFound => Fatal::NoSuchPath(p.clone()),
+            _ => Fatal::Unreadable(p.clone(), e.to_string()),
+        })?;
+        if meta.is_dir() {
+            let walker = ignore::WalkBuilder::new(p)
+                .require_git(false)
+                .hidden(true)
+                .sort_by_file_name(|a, b| a.cmp(b))
+                .build();
+            for entry in walker {
+                let entry = entry.map_err(|e| Fatal::Unreadable(p.clone(), e.to_string()))?;
+                let path = entry.path();
+                let name = path.file_name().and_then(|n| n.to_str()).unwrap_or("");
+                if !(name.ends_with(".rig.yaml") || name.ends_with(".rig.yml")) {
+                    continue;
+                }
+                if !entry.file_type().is_some_and(|t| t.is_file()) {
+                    continue;
+                }
+                let dir = path.parent().unwrap_or(Path::new("."));
+                let (root, s) = settings_for(dir, p)?;
+                if excluded(&s, &root, path) || !seen.insert(absolute(path)) {
+                    continue;
+                }
+                jobs.push(Job {
+                    path: path.to_path_buf(),
+                    display: display(path),
+                    root,
+                    settings: s,
+                });
+            }
+        } else {
+            let dir = p
+                .parent()
+                .filter(|d| !d.as_os_str().is_empty())
+                .unwrap_or(Path::new("."));
+            let (root, s) = settings_for(dir, dir)?;
+            if excluded(&s, &root, p) || !seen.insert(absolute(p)) {
+                continue;
+            }
+            jobs.push(Job {
+                path: p.clone(),
+                display: display(p),
+                root,
+                settings: s,
+            });
+        }
+    }
+    Ok(jobs)
+}
+
+fn excluded(s: &Settings, root: &Path, path: &Path) -> bool {
+    let abs = absolute(path);
+    abs.strip_prefix(root)
+        .map(|rel| s.excluded(rel))
+        .unwrap_or(false)
+}
+
+/// The path as the user gave it, with `./` prefixes removed.
+fn display(p: &Path) -> String {
+    let s = p.to_string_lossy().replace('\\', "/");
+    s.strip_prefix("./").map(str::to_string).unwrap_or(s)
+}
+
+/// An absolute, lexically normalised path (no file-system access).
+pub fn absolute(p: &Path) -> PathBuf {
+    let joined = if p.is_absolute() {
+        p.to_path_buf()
+    } else {
+        std::env::current_dir().unwrap_or_default().join(p)
+    };
+    normalize(&joined)
+}
+
+/// Remove `.` and resolve `..` lexically.
+pub fn normalize(p: &Path) -> PathBuf {
+    let mut out = PathBuf::new();
+    for c in p.components() {
+        match c {
+            Component::CurDir => {}
+            Component::ParentDir => {
+                if !out.pop() {
+                    out.push("..");
+                }
+            }
+            other => out.push(other.as_os_str()),
+        }
+    }
+    out
+}
+
+/// Read a file's text for linting. Too-large and non-UTF-8 files become findings.
+fn read_file(ctx: &Ctx, path: &Path, display: String) -> Result<(FileId, Option<Finding>), String> {
+    let meta = std::fs::metadata(path).map_err(|e| e.to_string())?;
+    if !meta.is_file() {
+        return Err("not a regular file".to_string());
+    }
+    if meta.len() > ctx.max_file_bytes {
+        let id = ctx
+            .sources
+            .lock()
+            .expect("no thread panicked")
+            .add(path, display, String::new());
+        let f = Finding::new(
+            "yaml-syntax",
+            Severity::Error,
+            Label::new(Span::point(id, 0), "file too large"),
+            format!(
+                "the file is {} bytes, over the {}-byte limit for one rig or catalog",
+                meta.len(),
+                ctx.max_file_bytes
+            ),
+        )
+        .with_help("split the rig, or raise the limit with --max-file-size");
+        return Ok((id, Some(f)));
+    }
+    let bytes = std::fs::read(path).map_err(|e| e.to_string())?;
+    match String::from_utf8(bytes) {
+        Ok(text) => Ok((
+            ctx.sources
+                .lock()
+                .expect("no thread panicked")
+                .add(path, display, text),
+            None,
+        )),
+        Err(e) => {
+            let at = e.utf8_error().valid_up_to();
+            let text = String::from_utf8_lossy(e.as_bytes()).into_owned();
+            let id = ctx
+                .sources
+                .lock()
+                .expect("no thread panicked")
+                .add(path, display, text);
+            let f = Finding::new(
+                "yaml-syntax",
+                Severity::Error,
+                Label::new(Span::point(id, at), "not UTF-8"),
+                format!("the file is not valid UTF-8 (byte {at} starts an invalid sequence)"),
+            )
+            .with_help("save the file as UTF-8");
+            Ok((id, Some(f)))
+        }
+    }
+}
+
+/// Read, parse, check the shape of and build one file.
+fn load(ctx: &Ctx, path: &Path, display: String, role: Role) -> Result<Loaded, String> {
+    let (file, early) = read_file(ctx, path, display)?;
+    if let Some(f) = early {
+        return Ok(Loaded {
+            file,
+            doc: None,
+            findings: vec![f],
+            suppressions: Vec::new(),
+        });
+    }
+    // The text is immutable once added; work on a copy of the handle's text.
+    let (text, lines) = {
+        let sources = ctx.sources.lock().expect("no thread panicked");
+        let sf = sources.get(file);
+        (sf.text.clone(), sf.lines.clone())
+    };
+    Ok(load_text(file, &text, &lines, role))
+}
+
+fn load_text(file: FileId, text: &str, lines: &LineIndex, role: Role) -> Loaded {
+    let mut findings = Vec::new();
+    let root: Option<Node> = match yaml::parse(file, text, lines) {
+        Ok(n) => Some(n),
+        Err(e) => {
+            findings.push(
+                Finding::new(
+                    "yaml-syntax",
+                    Severity::Error,
+                    Label::new(e.span, "here"),
+                    e.message,
+                )
+                .with_help(
+                    "fix the YAML syntax; nothing else in the file is checked until it parses",
+                ),
+            );
+            None
+        }
+    };
+    let (suppressions, sup_findings) = suppress::scan(file, text, lines, root.as_ref());
+    findings.extend(sup_findings);
+    let doc = root.as_ref().map(|root| {
+        let schema = crate::model::schema::check(root, text);
+        let (doc, quantity) = build::build(file, text, role, root);
+        findings.extend(schema);
+        findings.extend(quantity);
+        doc
+    });
+    Loaded {
+        file,
+        doc,
+        findings,
+        suppressions,
+    }
+}
+
+type RigResult = (Loaded, Vec<Finding>, usize, Option<Rig>, Arc<Settings>);
+
+fn lint_rig(ctx: &Ctx, job: &Job, keep: bool) -> Result<RigResult, Fatal> {
+    let mut loaded = load(ctx, &job.path, job.display.clone(), Role::Rig)
+        .map_err(|why| Fatal::Unreadable(job.path.clone(), why))?;
+    let mut out = Vec::new();
+    let Some(doc) = loaded.doc.take() else {
+        return Ok((loaded, out, 0, None, job.settings.clone()));
+    };
+    let channels = doc.channels.len();
+    // Includes, depth first, each catalog once per rig.
+    let mut catalogs: Vec<Arc<Loaded>> = Vec::new();
+    let mut stack = vec![absolute(&job.path)];
+    let root = canonical_or_self(&job.root);
+    include_all(
+        ctx,
+        &doc,
+        &job.path,
+        &job.display,
+        &root,
+        &mut stack,
+        &mut catalogs,
+        &mut out,
+    );
+    let mut docs: Vec<&Document> = vec![&doc];
+    docs.extend(catalogs.iter().filter_map(|c| c.doc.as_ref()));
+    let (rig, resolve_findings) = resolve::resolve(&docs, &job.settings.thresholds);
+    out.extend(resolve_findings);
+    out.extend(crate::rules::check_rig(&rig));
+    loaded.doc = Some(doc);
+    Ok((
+        loaded,
+        out,
+        channels,
+        keep.then_some(rig),
+        job.settings.clone(),
+    ))
+}
+
+fn canonical_or_self(p: &Path) -> PathBuf {
+    std::fs::canonicalize(p).unwrap_or_else(|_| p.to_path_buf())
+}
+
+#[allow(clippy::too_many_arguments)]
+fn include_all(
+    ctx: &Ctx,
+    doc: &Document,
+    path: &Path,
+    display_path: &str,
+    root: &Path,
+    stack: &mut Vec<PathBuf>,
+    catalogs: &mut Vec<Arc<Loaded>>,
+    out: &mut Vec<Finding>,
+) {
+    let dir = path.parent().unwrap_or(Path::new(""));
+    let display_dir = Path::new(display_path).parent().unwrap_or(Path::new(""));
+    for inc in &doc.includes {
+        let target = dir.join(&inc.value);
+        let abs = absolute(&target);
+        let include_finding = |label: &str, message: String, help: &str| {
+            Finding::new(
+                "include",
+                Severity::Error,
+                Label::new(inc.span, label),
+                message,
+            )
+            .with_help(help)
+        };
+        if stack.contains(&abs) {
+            let mut chain: Vec<String> = stack
+                .iter()
+                .skip_while(|p| **p != abs)
+                .map(|p| {
+                    p.file_name()
+                        .map(|n| n.to_string_lossy().into_owned())
+                        .unwrap_or_default()
+                })
+                .collect();
+            chain.push(
+                abs.file_name()
+                    .map(|n| n.to_string_lossy().into_owned())
+                    .unwrap_or_default(),
+            );
+            out.push(include_finding(
+                "includes a file that is already being included",
+                format!("include loop: {}", chain.join(" → ")),
+                "remove one include of the loop",
+            ));
+            continue;
+        }
+        let real = match std::fs::canonicalize(&target) {
+            Ok(r) => r,
+            Err(e) => {
+                let what = if e.kind() == std::io::ErrorKind::NotFound {
+                    "does not exist"
+                } else {
+                    "cannot be read"
+                };
+                out.push(include_finding(
+                    "no such file",
+                    format!("the included file `{}` {what}", inc.value),
+                    "check the path: it is relative to the including file",
+                ));
+                continue;
+            }
+        };
+        if !real.starts_with(root) {
+            out.push(include_finding(
+                "outside the campaign root",
+                format!("the included file `{}` lies outside the campaign root {}", inc.value, root.display()),
+                "keep shared catalogs inside the campaign (the directory of foldcheck.toml, or the one linted)",
+            ));
+            continue;
+        }
+        if catalogs.iter().any(|c| canonical_of(ctx, c.file) == real) {
+            continue; // included twice along different paths: once is enough
+        }
+        let cell = {
+            let mut map = ctx.catalogs.lock().expect("no thread panicked");
+            map.entry(real.clone()).or_default().clone()
+        };
+        let display = display(&normalize(&display_dir.join(&inc.value)));
+        let mut failed = None;
+        let loaded = cell.get_or_init(|| {
+            let r = load(ctx, &real, display.clone(), Role::Catalog);
+            match r {
+                Ok(l) => Arc::new(l),
+                Err(why) => {
+                    failed = Some(why);
+                    Arc::new(Loaded {
+                        file: FileId::MAX,
+                        doc: None,
+                        findings: Vec::new(),
+                        suppressions: Vec::new(),
+                    })
+                }
+            }
+        });
+        if loaded.file == FileId::MAX {
+            out.push(include_finding(
+                "unreadable",
+                format!(
+                    "the included file `{}` cannot be read: {}",
+                    inc.value,
+                    failed.unwrap_or_else(|| "unreadable".to_string())
+                ),
+                "check the file's permissions and type",
+            ));
+            continue;
+        }
+        let loaded = loaded.clone();
+        if let Some(cdoc) = &loaded.doc {
+            if let Some((key, span)) = cdoc.rig_only_keys.first() {
+                out.push(
+                    include_finding(
+                        "holds rig-only sections",
+                        format!("the included file `{}` holds `{key}`, which only a rig may hold", inc.value),
+                        "move channels, groups, disturbances, logger and defaults into the rig; a catalog holds clocks, sensors and modules",
+                    )
+                    .with_label(*span, format!("`{key}` in a catalog")),
+                );
+            }
+            stack.push(abs.clone());
+            let cdoc_path = real.clone();
+            let cdisplay = ctx
+                .sources
+                .lock()
+                .expect("no thread panicked")
+                .get(loaded.file)
+                .display
+                .clone();
+            catalogs.push(loaded.clone());
+            include_all(ctx, cdoc, &cdoc_path, &cdisplay, root, stack, catalogs, out);
+            stack.pop();
+        } else {
+            catalogs.push(loaded);
+        }
+    }
+}
+
+fn canonical_of(ctx: &Ctx, file: FileId) -> PathBuf {
+    let path = ctx
+        .sources
+        .lock()
+        .expect("no thread panicked")
+        .get(file)
+        .path
+        .clone();
+    canonical_or_self(&path)
+}

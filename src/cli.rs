@@ -1,0 +1,136 @@
+//! The command line (clap definitions only).
+
+use clap::{Parser, Subcommand, ValueEnum};
+use std::path::PathBuf;
+
+/// Lint the configuration files of data-acquisition rigs: exact sample rates through the
+/// clock tree, the sampling theorem, anti-alias filtering at every rate change, and more.
+#[derive(Parser, Debug)]
+#[command(name = "foldcheck", version, about, long_about = None)]
+pub struct Cli {
+    /// What to do.
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+/// Output formats of `check`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum CheckFormat {
+    /// Reports with source excerpts and a summary line.
+    Human,
+    /// JSON, version 1.
+    Json,
+    /// SARIF 2.1.0.
+    Sarif,
+}
+
+/// Output formats of `diff`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum DiffFormat {
+    /// Plain text.
+    Human,
+    /// JSON.
+    Json,
+    /// A Markdown table for a review comment.
+    Markdown,
+}
+
+/// Output formats of `inspect`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum InspectFormat {
+    /// Plain text.
+    Human,
+    /// JSON.
+    Json,
+}
+
+/// Lowest severity that fails the run.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum FailOn {
+    /// Errors only.
+    Error,
+    /// Warnings and errors.
+    Warning,
+    /// Any finding.
+    Note,
+}
+
+/// When to colour.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum ColorChoice {
+    /// When stdout is a terminal and NO_COLOR is not set.
+    Auto,
+    /// Always.
+    Always,
+    /// Never.
+    Never,
+}
+
+/// The subcommands.
+#[derive(Subcommand, Debug)]
+pub enum Command {
+    /// Lint files and directories (default: the current directory).
+    Check {
+        /// Rig files (any name) and directories (every *.rig.yaml / *.rig.yml below).
+        paths: Vec<PathBuf>,
+        /// Output format.
+        #[arg(long, value_enum, default_value_t = CheckFormat::Human)]
+        format: CheckFormat,
+        /// Lowest severity that makes the exit status 1.
+        #[arg(long, value_enum, default_value_t = FailOn::Error)]
+        fail_on: FailOn,
+        /// Colour the human format.
+        #[arg(long, value_enum, default_value_t = ColorChoice::Auto)]
+        color: ColorChoice,
+        /// Use this settings file instead of discovering foldcheck.toml.
+        #[arg(long, value_name = "FILE")]
+        settings: Option<PathBuf>,
+        /// Refuse files larger than this many bytes (default 64 MiB).
+        #[arg(long, value_name = "BYTES")]
+        max_file_size: Option<u64>,
+    },
+    /// Compare two files or two directories, or the working tree with a git revision.
+    Diff {
+        /// OLD and NEW (files or directories); with --rev, the paths to compare.
+        paths: Vec<PathBuf>,
+        /// Compare the working tree with this git revision.
+        #[arg(long, value_name = "REV")]
+        rev: Option<String>,
+        /// Output format.
+        #[arg(long, value_enum, default_value_t = DiffFormat::Human)]
+        format: DiffFormat,
+        /// Lowest severity of an introduced finding that makes the exit status 1.
+        #[arg(long, value_enum, default_value_t = FailOn::Error)]
+        fail_on: FailOn,
+        /// Use this settings file instead of discovering foldcheck.toml.
+        #[arg(long, value_name = "FILE")]
+        settings: Option<PathBuf>,
+    },
+    /// Show one channel's chain: clock path, rates, attenuation and phase where it matters.
+    Inspect {
+        /// The rig file.
+        file: PathBuf,
+        /// The channel's name.
+        channel: String,
+        /// Draw the channel's spectrum to this SVG file.
+        #[arg(long, value_name = "FILE.svg")]
+        plot: Option<PathBuf>,
+        /// Output format.
+        #[arg(long, value_enum, default_value_t = InspectFormat::Human)]
+        format: InspectFormat,
+        /// Use this settings file instead of discovering foldcheck.toml.
+        #[arg(long, value_name = "FILE")]
+        settings: Option<PathBuf>,
+    },
+    /// List the rules, or show one rule's full explanation.
+    Rules {
+        /// A rule name.
+        rule: Option<String>,
+    },
+    /// Print the JSON Schema of the rig format.
+    Schema {
+        /// Print the schema of foldcheck.toml instead.
+        #[arg(long)]
+        settings: bool,
+    },
+}

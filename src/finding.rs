@@ -1,0 +1,184 @@
+//! The one finding type every stage produces and every renderer renders.
+
+use crate::source::Span;
+use serde_json::{Map, Value};
+
+/// How serious a finding is.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash)]
+pub enum Severity {
+    /// Informational.
+    Note,
+    /// Probably wrong.
+    Warning,
+    /// Wrong.
+    Error,
+}
+
+impl Severity {
+    /// The name used in output and settings.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Severity::Note => "note",
+            Severity::Warning => "warning",
+            Severity::Error => "error",
+        }
+    }
+
+    /// Parse `error`, `warning` or `note`.
+    pub fn parse(s: &str) -> Option<Severity> {
+        match s {
+            "error" => Some(Severity::Error),
+            "warning" => Some(Severity::Warning),
+            "note" => Some(Severity::Note),
+            _ => None,
+        }
+    }
+}
+
+/// A span with a short text.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Label {
+    /// Where.
+    pub span: Span,
+    /// What is there, e.g. "divides 24.576 MHz by 480".
+    pub text: String,
+}
+
+impl Label {
+    /// A label.
+    pub fn new(span: Span, text: impl Into<String>) -> Self {
+        Label {
+            span,
+            text: text.into(),
+        }
+    }
+}
+
+/// One diagnostic.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Finding {
+    /// The rule's name (the interface: output, settings and suppressions use it).
+    pub rule: &'static str,
+    /// Severity after settings.
+    pub severity: Severity,
+    /// The main place.
+    pub primary: Label,
+    /// Places that contributed.
+    pub secondary: Vec<Label>,
+    /// One clause with the numbers and units; lowercase start, no final period.
+    pub message: String,
+    /// What to change.
+    pub help: Option<String>,
+    /// The channel the finding is about, if any.
+    pub channel: Option<String>,
+    /// Machine-readable values (SPEC §5).
+    pub values: Map<String, Value>,
+    /// The reason given by a suppression comment that covers this finding.
+    pub suppressed: Option<String>,
+}
+
+impl Finding {
+    /// A finding with no secondary labels, help, channel or values yet.
+    pub fn new(
+        rule: &'static str,
+        severity: Severity,
+        primary: Label,
+        message: impl Into<String>,
+    ) -> Self {
+        Finding {
+            rule,
+            severity,
+            primary,
+            secondary: Vec::new(),
+            message: message.into(),
+            help: None,
+            channel: None,
+            values: Map::new(),
+            suppressed: None,
+        }
+    }
+
+    /// Add a secondary label.
+    pub fn with_label(mut self, span: Span, text: impl Into<String>) -> Self {
+        self.secondary.push(Label::new(span, text));
+        self
+    }
+
+    /// Set the help line.
+    pub fn with_help(mut self, help: impl Into<String>) -> Self {
+        self.help = Some(help.into());
+        self
+    }
+
+    /// Set the help line if there is one.
+    pub fn with_help_opt(mut self, help: Option<String>) -> Self {
+        self.help = help;
+        self
+    }
+
+    /// Name the channel.
+    pub fn with_channel(mut self, channel: &str) -> Self {
+        self.channel = Some(channel.to_string());
+        self
+    }
+
+    /// Add a machine-readable value. Non-finite numbers are clamped (JSON has no
+    /// infinity): see [`finite`].
+    pub fn with_value(mut self, key: &str, value: impl Into<Value>) -> Self {
+        self.values.insert(key.to_string(), value.into());
+        self
+    }
+
+    /// Add a floating-point value, clamped to stay valid JSON.
+    pub fn with_f64(mut self, key: &str, value: f64) -> Self {
+        self.values
+            .insert(key.to_string(), Value::from(finite(value)));
+        self
+    }
+}
+
+/// Attenuation deeper than this is shown as "> 300 dB" and carried as 300 in JSON:
+/// exact nulls of a sinc response are infinitely deep.
+pub const ATTENUATION_CEILING_DB: f64 = 300.0;
+
+/// Make a value writable as JSON (which has no infinity): ±infinity, which only an
+/// exact null of a response can produce, becomes ±[`ATTENUATION_CEILING_DB`]; NaN, which
+/// no computation should produce, becomes 0.
+pub fn finite(x: f64) -> f64 {
+    if x.is_nan() {
+        0.0
+    } else if x.is_infinite() {
+        ATTENUATION_CEILING_DB.copysign(x)
+    } else {
+        x
+    }
+}
+
+/// An attenuation for messages: `11.97 dB`, or `> 300 dB` past the ceiling.
+pub fn format_db(db: f64) -> String {
+    if db >= ATTENUATION_CEILING_DB {
+        format!("> {ATTENUATION_CEILING_DB:.0} dB")
+    } else {
+        format!("{:.2} dB", if db.abs() < 0.005 { 0.0 } else { db })
+    }
+}
+
+/// Round to a number of decimals, for JSON values that users compare by eye.
+pub fn round_to(x: f64, decimals: i32) -> f64 {
+    let p = 10f64.powi(decimals);
+    (x * p).round() / p
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn infinite_attenuation_stays_valid_json() {
+        assert_eq!(finite(f64::INFINITY), ATTENUATION_CEILING_DB);
+        assert_eq!(finite(12.5), 12.5);
+        assert_eq!(finite(1e6), 1e6);
+        assert_eq!(format_db(f64::INFINITY), "> 300 dB");
+        assert_eq!(format_db(11.974), "11.97 dB");
+    }
+}

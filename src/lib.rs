@@ -1,0 +1,19 @@
+//! foldcheck: a linter for the configuration files of data-acquisition rigs.
+//!
+//! The pipeline runs one way: source → YAML tree with spans ([`source`]) → typed rig
+//! model ([`model`]) → resolved model: references, clock rates, chains ([`resolve`]) →
+//! rules ([`rules`]) → findings ([`finding`]) → renderers ([`report`]). [`campaign`]
+//! drives it over files and directories.
+
+pub mod campaign;
+pub mod diff;
+pub mod finding;
+pub mod inspect;
+pub mod model;
+pub mod report;
+pub mod resolve;
+pub mod rules;
+pub mod settings;
+pub mod signal;
+pub mod source;
+pub mod suppress;

@@ -1,0 +1,407 @@
+//! Quantities: a number with an optional unit, parsed exactly.
+//!
+//! `24.576 MHz` becomes the rational 24 576 000 Hz, so clock trees divide exactly.
+//! Units are case-sensitive SI spellings; a near miss gets a hint with the right one.
+
+use num_rational::Ratio;
+use num_traits::{CheckedMul, ToPrimitive, Zero};
+
+/// An exact rational value in the base unit (Hz, dB, deg, bytes, bytes/s, s).
+pub type Exact = Ratio<i128>;
+
+/// The kinds of quantity the rig format uses.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Kind {
+    /// Hz; a bare number is Hz.
+    Frequency,
+    /// dB; a bare number is dB.
+    Level,
+    /// deg; a bare number is degrees.
+    Phase,
+    /// bytes; a unit is required.
+    DataSize,
+    /// bytes per second; a unit is required.
+    DataRate,
+    /// seconds; a unit is required.
+    Duration,
+}
+
+impl Kind {
+    /// The word for messages.
+    pub fn noun(self) -> &'static str {
+        match self {
+            Kind::Frequency => "frequency",
+            Kind::Level => "level",
+            Kind::Phase => "phase",
+            Kind::DataSize => "data size",
+            Kind::DataRate => "data rate",
+            Kind::Duration => "duration",
+        }
+    }
+
+    /// The units of this kind with their scale to the base unit.
+    pub fn units(self) -> &'static [(&'static str, i128, i128)] {
+        // (spelling, numerator, denominator)
+        match self {
+            Kind::Frequency => &[
+                ("Hz", 1, 1),
+                ("kHz", 1_000, 1),
+                ("MHz", 1_000_000, 1),
+                ("GHz", 1_000_000_000, 1),
+            ],
+            Kind::Level => &[("dB", 1, 1)],
+            Kind::Phase => &[("deg", 1, 1)],
+            Kind::DataSize => &SIZE_UNITS,
+            Kind::DataRate => &RATE_UNITS,
+            Kind::Duration => &[
+                ("s", 1, 1),
+                ("min", 60, 1),
+                ("h", 3_600, 1),
+                ("d", 86_400, 1),
+            ],
+        }
+    }
+
+    /// Whether a bare number is accepted (in the base unit).
+    pub fn bare_allowed(self) -> bool {
+        matches!(self, Kind::Frequency | Kind::Level | Kind::Phase)
+    }
+
+    /// An example spelling for help text.
+    pub fn example(self) -> &'static str {
+        match self {
+            Kind::Frequency => "`51.2 kHz`",
+            Kind::Level => "`80 dB`",
+            Kind::Phase => "`2 deg`",
+            Kind::DataSize => "`500 GB`",
+            Kind::DataRate => "`40 MB/s`",
+            Kind::Duration => "`72 h`",
+        }
+    }
+
+    fn unit_list(self) -> String {
+        self.units()
+            .iter()
+            .map(|u| u.0)
+            .collect::<Vec<_>>()
+            .join(" ")
+    }
+}
+
+const SIZE_UNITS: [(&str, i128, i128); 9] = [
+    ("B", 1, 1),
+    ("kB", 1_000, 1),
+    ("MB", 1_000_000, 1),
+    ("GB", 1_000_000_000, 1),
+    ("TB", 1_000_000_000_000, 1),
+    ("KiB", 1 << 10, 1),
+    ("MiB", 1 << 20, 1),
+    ("GiB", 1 << 30, 1),
+    ("TiB", 1 << 40, 1),
+];
+
+const RATE_UNITS: [(&str, i128, i128); 9] = [
+    ("B/s", 1, 1),
+    ("kB/s", 1_000, 1),
+    ("MB/s", 1_000_000, 1),
+    ("GB/s", 1_000_000_000, 1),
+    ("TB/s", 1_000_000_000_000, 1),
+    ("KiB/s", 1 << 10, 1),
+    ("MiB/s", 1 << 20, 1),
+    ("GiB/s", 1 << 30, 1),
+    ("TiB/s", 1 << 40, 1),
+];
+
+const ALL_KINDS: [Kind; 6] = [
+    Kind::Frequency,
+    Kind::Level,
+    Kind::Phase,
+    Kind::DataSize,
+    Kind::DataRate,
+    Kind::Duration,
+];
+
+/// Why a quantity was refused: a message and an optional help line.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct QuantityError {
+    /// One clause, lowercase.
+    pub message: String,
+    /// What to write instead.
+    pub help: Option<String>,
+}
+
+impl QuantityError {
+    fn new(message: String, help: Option<String>) -> Self {
+        QuantityError { message, help }
+    }
+}
+
+/// Parse a decimal number (optional sign, fraction and exponent) exactly.
+pub fn parse_decimal(s: &str) -> Option<Exact> {
+    let s = s.trim();
+    let (neg, body) = match s.as_bytes().first()? {
+        b'-' => (true, &s[1..]),
+        b'+' => (false, &s[1..]),
+        _ => (false, s),
+    };
+    let (mantissa, exp) = match body.find(['e', 'E']) {
+        Some(i) => (&body[..i], body[i + 1..].parse::<i32>().ok()?),
+        None => (body, 0),
+    };
+    let (int_part, frac_part) = match mantissa.find('.') {
+        Some(i) => (&mantissa[..i], &mantissa[i + 1..]),
+        None => (mantissa, ""),
+    };
+    if int_part.is_empty() && frac_part.is_empty() {
+        return None;
+    }
+    if !int_part.bytes().all(|b| b.is_ascii_digit())
+        || !frac_part.bytes().all(|b| b.is_ascii_digit())
+    {
+        return None;
+    }
+    let digits = format!("{int_part}{frac_part}");
+    let digits = digits.trim_start_matches('0');
+    let mut value: i128 = if digits.is_empty() {
+        0
+    } else {
+        digits.parse().ok()?
+    };
+    let scale = exp.checked_sub(i32::try_from(frac_part.len()).ok()?)?;
+    if value == 0 {
+        return Some(Exact::zero());
+    }
+    if neg {
+        value = -value;
+    }
+    let ten_pow = |n: u32| 10i128.checked_pow(n);
+    if scale >= 0 {
+        let p = ten_pow(scale as u32)?;
+        Some(Exact::from_integer(value.checked_mul(p)?))
+    } else {
+        let p = ten_pow(scale.unsigned_abs())?;
+        Some(Exact::new(value, p))
+    }
+}
+
+/// Parse `text` as a quantity of `kind`. Returns the exact value in the base unit.
+/// Range is not checked here (see [`check_positive`]).
+pub fn parse(text: &str, kind: Kind) -> Result<Exact, QuantityError> {
+    let t = text.trim();
+    if t.is_empty() {
+        return Err(QuantityError::new(
+            format!("expected a {}, found an empty value", kind.noun()),
+            Some(format!(
+                "write a number and a unit, e.g. {}",
+                kind.example()
+            )),
+        ));
+    }
+    // Split into the number and the unit: the number is the longest prefix that parses.
+    let split = t
+        .char_indices()
+        .map(|(i, _)| i)
+        .chain(std::iter::once(t.len()))
+        .rfind(|&i| parse_decimal(&t[..i]).is_some());
+    let Some(split) = split else {
+        return Err(QuantityError::new(
+            format!(
+                "`{t}` is not a {}: it does not start with a number",
+                kind.noun()
+            ),
+            Some(format!(
+                "write a number and a unit, e.g. {}",
+                kind.example()
+            )),
+        ));
+    };
+    let number = parse_decimal(&t[..split]).expect("prefix parsed");
+    let unit = t[split..].trim();
+    if unit.is_empty() {
+        if kind.bare_allowed() {
+            return Ok(number);
+        }
+        return Err(QuantityError::new(
+            format!("`{t}` has no unit; a {} needs one", kind.noun()),
+            Some(format!(
+                "write the unit, e.g. {} (units: {})",
+                kind.example(),
+                kind.unit_list()
+            )),
+        ));
+    }
+    if let Some((_, num, den)) = kind.units().iter().find(|u| u.0 == unit) {
+        return number
+            .checked_mul(&Exact::new(*num, *den))
+            .ok_or_else(|| out_of_range(t, kind));
+    }
+    // A near miss: the same letters in another case.
+    if let Some((right, _, _)) = kind.units().iter().find(|u| u.0.eq_ignore_ascii_case(unit)) {
+        return Err(QuantityError::new(
+            format!("unknown unit `{unit}` in `{t}`; units are case-sensitive"),
+            Some(format!(
+                "write `{}{right}`",
+                &t[..t.len() - t[split..].trim_start().len()]
+            )),
+        ));
+    }
+    if let Some(other) = ALL_KINDS
+        .iter()
+        .find(|k| k.units().iter().any(|u| u.0 == unit))
+    {
+        return Err(QuantityError::new(
+            format!(
+                "`{t}` is a {}, but a {} is expected here",
+                other.noun(),
+                kind.noun()
+            ),
+            Some(format!("use one of: {}", kind.unit_list())),
+        ));
+    }
+    Err(QuantityError::new(
+        format!("unknown unit `{unit}` in `{t}`"),
+        Some(format!("use one of: {}", kind.unit_list())),
+    ))
+}
+
+fn out_of_range(t: &str, kind: Kind) -> QuantityError {
+    QuantityError::new(
+        format!(
+            "`{t}` is out of the range this tool can represent exactly as a {}",
+            kind.noun()
+        ),
+        None,
+    )
+}
+
+/// Refuse zero and negative values (frequencies, sizes, rates and durations).
+pub fn check_positive(value: &Exact, text: &str, kind: Kind) -> Result<(), QuantityError> {
+    if *value.numer() <= 0 {
+        return Err(QuantityError::new(
+            format!(
+                "a {} must be above zero, found `{}`",
+                kind.noun(),
+                text.trim()
+            ),
+            None,
+        ));
+    }
+    Ok(())
+}
+
+/// Convert an exact value to f64.
+pub fn to_f64(v: &Exact) -> f64 {
+    v.to_f64().unwrap_or(f64::NAN)
+}
+
+/// Format a frequency in the largest unit that keeps the value ≥ 1, with up to 6
+/// significant digits: `51.2 kHz`, `44.1 kHz`, `3.33333 MHz`.
+pub fn format_hz(hz: f64) -> String {
+    let (scale, unit) = if hz.abs() >= 1e9 {
+        (1e9, "GHz")
+    } else if hz.abs() >= 1e6 {
+        (1e6, "MHz")
+    } else if hz.abs() >= 1e3 {
+        (1e3, "kHz")
+    } else {
+        (1.0, "Hz")
+    };
+    format!("{} {unit}", sig6(hz / scale))
+}
+
+/// A number with up to 6 significant digits, trailing zeros removed.
+pub fn sig6(x: f64) -> String {
+    if x == 0.0 || !x.is_finite() {
+        return format!("{x}");
+    }
+    let digits = 6 - 1 - x.abs().log10().floor() as i32;
+    let decimals = digits.clamp(0, 12) as usize;
+    let s = format!("{x:.decimals$}");
+    if s.contains('.') {
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        s
+    }
+}
+
+/// Format a data rate in bytes per second (powers of 1000).
+pub fn format_bytes(b: f64, per_second: bool) -> String {
+    let units = ["B", "kB", "MB", "GB", "TB", "PB"];
+    let mut v = b;
+    let mut i = 0;
+    while v.abs() >= 1000.0 && i + 1 < units.len() {
+        v /= 1000.0;
+        i += 1;
+    }
+    format!(
+        "{} {}{}",
+        sig6(v),
+        units[i],
+        if per_second { "/s" } else { "" }
+    )
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn hz(s: &str) -> Exact {
+        parse(s, Kind::Frequency).unwrap()
+    }
+
+    #[test]
+    fn exact_decimal_frequencies() {
+        assert_eq!(hz("24.576 MHz"), Exact::from_integer(24_576_000));
+        assert_eq!(hz("44.1kHz"), Exact::from_integer(44_100));
+        assert_eq!(hz("48000"), Exact::from_integer(48_000));
+        assert_eq!(hz("1e3 Hz"), Exact::from_integer(1_000));
+        assert_eq!(hz("0.5"), Exact::new(1, 2));
+        // 24.576 MHz / 512 = 48 kHz exactly
+        assert_eq!(
+            hz("24.576 MHz") / Exact::from_integer(512),
+            Exact::from_integer(48_000)
+        );
+    }
+
+    #[test]
+    fn near_miss_units_get_the_right_spelling() {
+        let e = parse("51.2 KHz", Kind::Frequency).unwrap_err();
+        assert!(e.message.contains("case-sensitive"), "{}", e.message);
+        assert_eq!(e.help.as_deref(), Some("write `51.2 kHz`"));
+        let e = parse("10khz", Kind::Frequency).unwrap_err();
+        assert_eq!(e.help.as_deref(), Some("write `10kHz`"));
+        let e = parse("80 db", Kind::Level).unwrap_err();
+        assert_eq!(e.help.as_deref(), Some("write `80 dB`"));
+    }
+
+    #[test]
+    fn wrong_kind_and_missing_units() {
+        let e = parse("80 dB", Kind::Frequency).unwrap_err();
+        assert!(e.message.contains("is a level"), "{}", e.message);
+        let e = parse("40", Kind::DataRate).unwrap_err();
+        assert!(e.message.contains("no unit"), "{}", e.message);
+        assert_eq!(
+            parse("40 MB/s", Kind::DataRate).unwrap(),
+            Exact::from_integer(40_000_000)
+        );
+        assert_eq!(
+            parse("1 GiB", Kind::DataSize).unwrap(),
+            Exact::from_integer(1 << 30)
+        );
+        assert_eq!(
+            parse("72 h", Kind::Duration).unwrap(),
+            Exact::from_integer(259_200)
+        );
+        assert!(parse("fast", Kind::Frequency).is_err());
+        assert!(parse("1e400 Hz", Kind::Frequency).is_err());
+    }
+
+    #[test]
+    fn formatting_follows_the_spec() {
+        assert_eq!(format_hz(51_200.0), "51.2 kHz");
+        assert_eq!(format_hz(44_100.0), "44.1 kHz");
+        assert_eq!(format_hz(10_000_000.0 / 3.0), "3.33333 MHz");
+        assert_eq!(format_hz(750.0), "750 Hz");
+        assert_eq!(format_hz(1_000.0), "1 kHz");
+    }
+}

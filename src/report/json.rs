@@ -1,0 +1,50 @@
+//! JSON output, version 1 (SPEC §7).
+
+use super::Counts;
+use crate::finding::Finding;
+use crate::source::Sources;
+use serde_json::{Map, Value, json};
+
+/// One finding as a JSON object.
+pub fn finding(sources: &Sources, f: &Finding) -> Value {
+    let file = sources.get(f.primary.span.file);
+    let (line, column) = file.line_col(f.primary.span.start);
+    let (end_line, end_column) = file.line_col(f.primary.span.end);
+    let mut o = Map::new();
+    o.insert("rule".into(), json!(f.rule));
+    o.insert("severity".into(), json!(f.severity.as_str()));
+    o.insert("file".into(), json!(file.display));
+    o.insert("line".into(), json!(line));
+    o.insert("column".into(), json!(column));
+    o.insert("end_line".into(), json!(end_line));
+    o.insert("end_column".into(), json!(end_column));
+    if let Some(c) = &f.channel {
+        o.insert("channel".into(), json!(c));
+    }
+    o.insert("message".into(), json!(f.message));
+    if let Some(h) = &f.help {
+        o.insert("help".into(), json!(h));
+    }
+    if !f.values.is_empty() {
+        o.insert("values".into(), Value::Object(f.values.clone()));
+    }
+    if let Some(reason) = &f.suppressed {
+        o.insert("suppressed".into(), json!(reason));
+    }
+    Value::Object(o)
+}
+
+/// The whole report.
+pub fn render(sources: &Sources, findings: &[Finding], files: usize, channels: usize) -> String {
+    let c = Counts::of(findings);
+    let v = json!({
+        "version": 1,
+        "files": files,
+        "channels": channels,
+        "findings": findings.iter().map(|f| finding(sources, f)).collect::<Vec<_>>(),
+        "summary": { "error": c.error, "warning": c.warning, "note": c.note },
+    });
+    let mut s = serde_json::to_string_pretty(&v).expect("JSON values serialise");
+    s.push('\n');
+    s
+}

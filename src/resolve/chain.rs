@@ -1,0 +1,241 @@
+//! A channel's signal chain: its rate changes (the ADC and each decimation stage) and the
+//! attenuation and phase its filters give at any frequency.
+
+use super::{RChannel, Rig};
+use crate::model::quantity::{Exact, to_f64};
+use crate::model::{Filter, Response};
+use crate::signal::analog::{Analog, AnalogKind};
+use crate::signal::{digital, table};
+use crate::source::Span;
+
+/// One rate change: the ADC (stage 0) or a decimation stage (k ≥ 1).
+#[derive(Clone, Debug)]
+pub struct RateChange {
+    /// 0 for the ADC, k for the k-th decimation stage.
+    pub stage: usize,
+    /// Output rate, exact.
+    pub fs: Exact,
+    /// Input rate (None for the ADC).
+    pub fs_in: Option<Exact>,
+    /// Decimation factor (1 for the ADC).
+    pub factor: u32,
+    /// The YAML that sets this rate: the channel's `clock` or the stage's `factor`.
+    pub span: Span,
+    /// The stage's digital filter, if any.
+    pub filter: Option<Filter>,
+}
+
+impl RateChange {
+    /// Output rate in Hz.
+    pub fn fs_hz(&self) -> f64 {
+        to_f64(&self.fs)
+    }
+}
+
+/// How a filter is placed: at the ADC, or in a decimation stage.
+#[derive(Clone, Copy, Debug)]
+pub struct Placement {
+    /// The output rate of the stage the filter belongs to (for `digital` edges).
+    pub output_rate: f64,
+    /// The stage's input rate and factor, for a decimation stage.
+    pub stage: Option<(f64, u32)>,
+}
+
+/// Attenuation of one filter at `f` Hz.
+pub fn filter_attenuation_db(r: &Response, f: f64, at: Placement) -> f64 {
+    match r {
+        Response::Butterworth { .. } | Response::Bessel { .. } | Response::Chebyshev { .. } => {
+            analog(r).map_or(0.0, |a| a.attenuation_db(f))
+        }
+        Response::Table { points } => table::table_attenuation_db(points, f),
+        Response::Digital {
+            passband_edge,
+            stopband_edge,
+            attenuation,
+        } => digital::digital_attenuation_db(
+            passband_edge * at.output_rate,
+            stopband_edge * at.output_rate,
+            *attenuation,
+            f,
+            at.stage.map(|(fin, _)| fin),
+        ),
+        Response::Sinc { order } => match at.stage {
+            Some((fin, m)) => digital::sinc_attenuation_db(*order, m, fin, f),
+            None => 0.0,
+        },
+    }
+}
+
+/// The analog prototype of a response, if it has one.
+pub fn analog(r: &Response) -> Option<Analog> {
+    let (kind, order, cutoff) = match *r {
+        Response::Butterworth { order, cutoff } => (AnalogKind::Butterworth, order, cutoff),
+        Response::Bessel { order, cutoff } => (AnalogKind::Bessel, order, cutoff),
+        Response::Chebyshev {
+            order,
+            cutoff,
+            ripple,
+        } => (AnalogKind::Chebyshev { ripple_db: ripple }, order, cutoff),
+        _ => return None,
+    };
+    Some(Analog {
+        kind,
+        order,
+        cutoff_hz: cutoff,
+    })
+}
+
+/// The chain of one channel.
+#[derive(Clone, Debug)]
+pub struct Chain<'a> {
+    /// The rig.
+    pub rig: &'a Rig,
+    /// The channel.
+    pub channel: &'a RChannel,
+    /// Its rate changes, ADC first.
+    pub changes: Vec<RateChange>,
+}
+
+/// One contribution to a chain's attenuation, for `inspect`.
+#[derive(Clone, Debug)]
+pub struct Contribution {
+    /// What it is ("channel filter: 4th-order Butterworth at 20 kHz").
+    pub what: String,
+    /// Attenuation in dB.
+    pub db: f64,
+}
+
+impl<'a> Chain<'a> {
+    /// The chain of a channel whose clock rate is known.
+    pub fn new(rig: &'a Rig, channel: &'a RChannel) -> Option<Chain<'a>> {
+        let clock = channel.clock?;
+        let fs0 = rig.clocks[clock].rate?;
+        let mut changes = vec![RateChange {
+            stage: 0,
+            fs: fs0,
+            fs_in: None,
+            factor: 1,
+            span: channel
+                .def
+                .clock
+                .as_ref()
+                .map_or(channel.def.name.span, |c| c.span),
+            filter: None,
+        }];
+        let mut fs = fs0;
+        for (k, st) in channel.def.decimate.iter().enumerate() {
+            let next = fs / Exact::from_integer(st.factor.value.into());
+            changes.push(RateChange {
+                stage: k + 1,
+                fs: next,
+                fs_in: Some(fs),
+                factor: st.factor.value,
+                span: st.factor.span,
+                filter: st.filter.clone(),
+            });
+            fs = next;
+        }
+        Some(Chain {
+            rig,
+            channel,
+            changes,
+        })
+    }
+
+    /// The final rate (after the last stage).
+    pub fn final_rate(&self) -> Exact {
+        self.changes.last().expect("the ADC is always there").fs
+    }
+
+    /// The ADC rate.
+    pub fn adc_rate(&self) -> Exact {
+        self.changes[0].fs
+    }
+
+    /// The filters seen up to and including rate change `upto`, with their placement.
+    fn filters_upto(
+        &self,
+        upto: usize,
+        rate: Option<f64>,
+    ) -> Vec<(&'a Filter, Placement, &'static str)> {
+        let fs0 = match rate {
+            Some(r) if upto == 0 => r,
+            _ => to_f64(&self.changes[0].fs),
+        };
+        let adc = Placement {
+            output_rate: fs0,
+            stage: None,
+        };
+        let mut v: Vec<(&'a Filter, Placement, &'static str)> = Vec::new();
+        if let Some(s) = self.channel.sensor.map(|i| &self.rig.sensors[i])
+            && let Some(resp) = &s.response
+        {
+            v.extend(resp.value.iter().map(|f| (f, adc, "sensor response")));
+        }
+        let origin = match self.channel.filters_span {
+            Some((_, o)) if o.contains("module") => "module filter",
+            _ => "channel filter",
+        };
+        v.extend(self.channel.filters.iter().map(|f| (f, adc, origin)));
+        for (k, st) in self.channel.def.decimate.iter().enumerate().take(upto) {
+            if let Some(f) = &st.filter {
+                let ch = &self.changes[k + 1];
+                let fin = to_f64(&ch.fs_in.expect("a stage has an input"));
+                let at = match rate {
+                    Some(r) if k + 1 == upto => Placement {
+                        output_rate: r,
+                        stage: Some((fin, (fin / r).round().max(1.0) as u32)),
+                    },
+                    _ => Placement {
+                        output_rate: ch.fs_hz(),
+                        stage: Some((fin, ch.factor)),
+                    },
+                };
+                v.push((f, at, "decimation filter"));
+            }
+        }
+        v
+    }
+
+    /// Total attenuation at `f` Hz of everything up to and including rate change
+    /// `upto` (0 = the ADC: analog filters and sensor response only).
+    pub fn attenuation_db(&self, f: f64, upto: usize) -> f64 {
+        self.attenuation_db_at(f, upto, None)
+    }
+
+    /// As [`Chain::attenuation_db`], with rate change `upto` moved to output rate `rate`
+    /// (for trying out a fix: digital filter edges follow the rate they belong to).
+    pub fn attenuation_db_at(&self, f: f64, upto: usize, rate: Option<f64>) -> f64 {
+        self.filters_upto(upto, rate)
+            .into_iter()
+            .map(|(flt, at, _)| filter_attenuation_db(&flt.response, f, at))
+            .sum()
+    }
+
+    /// Each filter's share of the attenuation at `f` up to rate change `upto`.
+    pub fn contributions(&self, f: f64, upto: usize) -> Vec<Contribution> {
+        self.filters_upto(upto, None)
+            .into_iter()
+            .map(|(flt, at, what)| Contribution {
+                what: format!("{what}: {}", flt.response.describe()),
+                db: filter_attenuation_db(&flt.response, f, at),
+            })
+            .collect()
+    }
+
+    /// Phase of the whole chain at `f` Hz, degrees. Analog filters contribute their
+    /// phase; digital and sinc filters are linear-phase and count as zero at the band
+    /// edge (SPEC §4): they delay every channel alike when equal.
+    pub fn phase_deg(&self, f: f64) -> f64 {
+        self.filters_upto(self.changes.len() - 1, None)
+            .into_iter()
+            .filter_map(|(flt, _, _)| analog(&flt.response))
+            .map(|a| a.phase_deg(f))
+            .sum()
+    }
+
+    /// Whether the chain has any filter that attenuates before the ADC.
+    pub fn has_analog_filter(&self) -> bool {
+        !self.filters_upto(0, None).is_empty()
+    }
+}

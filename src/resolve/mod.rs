@@ -1,0 +1,531 @@
+//! Resolution: names, references, the clock graph with exact rates, and each channel's
+//! inherited settings. Reads a rig document and the catalogs it includes; produces a
+//! [`Rig`] that the rules read, plus `duplicate-name`, `unknown-reference` and
+//! `clock-cycle` findings.
+
+pub mod chain;
+mod clocks;
+
+use crate::finding::{Finding, Label, Severity};
+use crate::model::quantity::{Exact, format_hz, to_f64};
+use crate::model::*;
+use crate::source::{FileId, Span};
+use std::collections::HashMap;
+
+pub use chain::RateChange;
+
+/// Thresholds after precedence (rig `defaults` over settings over built-in values).
+#[derive(Clone, Debug)]
+pub struct Thresholds {
+    /// fs / band below this is a `sampling-margin` finding.
+    pub margin: f64,
+    /// Required rejection from the rig or settings, if either sets one.
+    pub alias_rejection: Option<(f64, Origin)>,
+    /// Droop allowed at the band edge, dB.
+    pub passband_tolerance: f64,
+    /// fs / band above this is an `oversampling` note.
+    pub oversampling_limit: f64,
+    /// Allowed phase mismatch in a group, degrees.
+    pub phase_tolerance: f64,
+}
+
+impl Default for Thresholds {
+    fn default() -> Self {
+        Thresholds {
+            margin: 2.5,
+            alias_rejection: None,
+            passband_tolerance: 0.5,
+            oversampling_limit: 20.0,
+            phase_tolerance: 2.0,
+        }
+    }
+}
+
+/// Thresholds a settings file may set (all optional).
+#[derive(Clone, Debug, Default)]
+pub struct ThresholdSettings {
+    /// `margin`.
+    pub margin: Option<f64>,
+    /// `alias-rejection` in dB.
+    pub alias_rejection: Option<f64>,
+    /// `passband-tolerance` in dB.
+    pub passband_tolerance: Option<f64>,
+    /// `oversampling-limit`.
+    pub oversampling_limit: Option<f64>,
+    /// `phase-tolerance` in degrees.
+    pub phase_tolerance: Option<f64>,
+}
+
+/// Where a setting came from, for help text and labels.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Origin {
+    /// Written at this span.
+    At(Span, &'static str),
+    /// From the settings file.
+    Settings,
+    /// Derived from the module's `adc-bits` (ideal dynamic range).
+    AdcBits(Span, u32),
+    /// The built-in default.
+    Builtin,
+}
+
+impl Origin {
+    /// A short phrase: "the channel's `alias-rejection`", "foldcheck.toml" …
+    pub fn describe(&self) -> String {
+        match self {
+            Origin::At(_, what) => what.to_string(),
+            Origin::Settings => "the settings file".to_string(),
+            Origin::AdcBits(_, bits) => format!("the ideal dynamic range of a {bits}-bit ADC"),
+            Origin::Builtin => "the built-in default".to_string(),
+        }
+    }
+
+    /// The span, if the value is written in a rig or catalog.
+    pub fn span(&self) -> Option<Span> {
+        match self {
+            Origin::At(s, _) | Origin::AdcBits(s, _) => Some(*s),
+            _ => None,
+        }
+    }
+}
+
+/// A clock after resolution.
+#[derive(Clone, Debug)]
+pub struct RClock {
+    /// What the file says.
+    pub def: Clock,
+    /// The source clock, if derived and found.
+    pub parent: Option<usize>,
+    /// Exact rate in Hz, when it can be worked out.
+    pub rate: Option<Exact>,
+    /// The root of its tree.
+    pub root: Option<usize>,
+    /// Part of a dependency loop (reported once as `clock-cycle`).
+    pub in_cycle: bool,
+}
+
+/// The band of a channel and where it comes from.
+#[derive(Clone, Debug)]
+pub struct Band {
+    /// Hz, exact.
+    pub hz: Exact,
+    /// Where it is written (the channel's `band` or the sensor's `bandwidth`).
+    pub span: Span,
+    /// Whether it is the sensor's bandwidth (the channel gives none).
+    pub from_sensor: bool,
+}
+
+/// A channel after resolution.
+#[derive(Clone, Debug)]
+pub struct RChannel {
+    /// What the file says.
+    pub def: Channel,
+    /// Index of its clock in [`Rig::clocks`].
+    pub clock: Option<usize>,
+    /// Index of its sensor.
+    pub sensor: Option<usize>,
+    /// Index of its module.
+    pub module: Option<usize>,
+    /// Band, if known.
+    pub band: Option<Band>,
+    /// Its analog/ADC-level filter chain (own or the module's).
+    pub filters: Vec<Filter>,
+    /// Where that chain is written, if anywhere.
+    pub filters_span: Option<(Span, &'static str)>,
+    /// Required rejection in dB and where it comes from.
+    pub rejection: (f64, Origin),
+    /// Stored bits per sample.
+    pub sample_bits: u32,
+    /// Every reference resolved and no value broken: the physics rules may run.
+    pub ok: bool,
+}
+
+/// A rig and what it includes, resolved.
+#[derive(Clone, Debug)]
+pub struct Rig {
+    /// The rig file.
+    pub file: FileId,
+    /// Its `rig:` name.
+    pub name: Option<Sp<String>>,
+    /// Its document span.
+    pub span: Span,
+    /// Effective thresholds.
+    pub thresholds: Thresholds,
+    /// Where each threshold came from, for labels (`margin`, …).
+    pub threshold_spans: HashMap<&'static str, Span>,
+    /// Clocks of the rig and its catalogs.
+    pub clocks: Vec<RClock>,
+    /// Sensors.
+    pub sensors: Vec<Sensor>,
+    /// Modules.
+    pub modules: Vec<Module>,
+    /// Channels.
+    pub channels: Vec<RChannel>,
+    /// Groups.
+    pub groups: Vec<Group>,
+    /// Group members resolved to channel indexes (unknown names left out).
+    pub group_members: Vec<Vec<usize>>,
+    /// Disturbances.
+    pub disturbances: Vec<Disturbance>,
+    /// Channels each disturbance reaches.
+    pub disturbance_targets: Vec<Vec<usize>>,
+    /// Logger limits.
+    pub logger: Option<Logger>,
+}
+
+impl Rig {
+    /// The clock path from the root to `clock` (inclusive), root first.
+    pub fn clock_path(&self, clock: usize) -> Vec<usize> {
+        let mut path = vec![clock];
+        let mut at = clock;
+        while let Some(p) = self.clocks[at].parent {
+            if path.contains(&p) || self.clocks[at].in_cycle {
+                break;
+            }
+            path.push(p);
+            at = p;
+        }
+        path.reverse();
+        path
+    }
+
+    /// Whether `clock` is `ancestor` or derived from it.
+    pub fn derives_from(&self, clock: usize, ancestor: usize) -> bool {
+        self.clock_path(clock).contains(&ancestor)
+    }
+
+    /// The channels sampling on `clock` or on a clock derived from it.
+    pub fn channels_under(&self, clock: usize) -> Vec<usize> {
+        self.channels
+            .iter()
+            .enumerate()
+            .filter(|(_, c)| c.clock.is_some_and(|k| self.derives_from(k, clock)))
+            .map(|(i, _)| i)
+            .collect()
+    }
+
+    /// The channel's ADC rate in Hz, exact.
+    pub fn adc_rate(&self, ch: &RChannel) -> Option<Exact> {
+        self.clocks[ch.clock?].rate
+    }
+
+    /// Find a channel by name.
+    pub fn channel(&self, name: &str) -> Option<usize> {
+        self.channels.iter().position(|c| c.def.name.value == name)
+    }
+}
+
+/// The closest name among `candidates` (Jaro-Winkler, with a floor), for "did you mean".
+pub fn closest<'a>(name: &str, candidates: impl Iterator<Item = &'a str>) -> Option<&'a str> {
+    candidates
+        .map(|c| (strsim::jaro_winkler(name, c), c))
+        .filter(|(score, _)| *score >= 0.75)
+        .max_by(|a, b| a.0.total_cmp(&b.0))
+        .map(|(_, c)| c)
+}
+
+struct Names<'a> {
+    section: &'static str,
+    seen: HashMap<&'a str, (usize, Span)>,
+}
+
+impl<'a> Names<'a> {
+    fn new(section: &'static str) -> Self {
+        Names {
+            section,
+            seen: HashMap::new(),
+        }
+    }
+
+    /// Register a name; a second definition is a `duplicate-name` finding.
+    fn add(&mut self, name: &'a Sp<String>, index: usize, out: &mut Vec<Finding>) -> bool {
+        if let Some((_, first)) = self.seen.get(name.value.as_str()) {
+            out.push(
+                Finding::new(
+                    "duplicate-name",
+                    Severity::Error,
+                    Label::new(name.span, "defined again here"),
+                    format!(
+                        "the {} name `{}` is defined twice",
+                        self.section, name.value
+                    ),
+                )
+                .with_label(*first, "first defined here")
+                .with_help(format!(
+                    "rename one of them; {} names must be unique across a rig and its includes",
+                    self.section
+                )),
+            );
+            return false;
+        }
+        self.seen.insert(&name.value, (index, name.span));
+        true
+    }
+
+    fn get(&self, name: &str) -> Option<usize> {
+        self.seen.get(name).map(|(i, _)| *i)
+    }
+
+    fn lookup(&self, what: &str, r: &Sp<String>, out: &mut Vec<Finding>) -> Option<usize> {
+        if let Some(i) = self.get(&r.value) {
+            return Some(i);
+        }
+        let mut f = Finding::new(
+            "unknown-reference",
+            Severity::Error,
+            Label::new(r.span, format!("no {} of this name", self.section)),
+            format!(
+                "{what} names the {} `{}`, which is not defined",
+                self.section, r.value
+            ),
+        );
+        f.help = Some(match closest(&r.value, self.seen.keys().copied()) {
+            Some(best) => format!("did you mean `{best}`?"),
+            None if self.seen.is_empty() => {
+                format!("no {} is defined in this rig or its includes", self.section)
+            }
+            None => {
+                let mut known: Vec<&str> = self.seen.keys().copied().collect();
+                known.sort_unstable();
+                known.truncate(8);
+                format!("defined {}s: {}", self.section, known.join(", "))
+            }
+        });
+        out.push(f);
+        None
+    }
+}
+
+/// Resolve a rig. `docs[0]` is the rig file; the rest are the catalogs it includes
+/// (in include order). Returns the rig and the resolution findings.
+pub fn resolve(docs: &[&Document], settings: &ThresholdSettings) -> (Rig, Vec<Finding>) {
+    let mut out = Vec::new();
+    let rig_doc = docs[0];
+
+    // Sections across the rig and its includes: the rig's own entries first, so a
+    // duplicate is reported in the catalog, whose entry is the one left out.
+    let order: Vec<&Document> = docs.to_vec();
+    let mut clock_names = Names::new("clock");
+    let mut clocks_def: Vec<Clock> = Vec::new();
+    let mut sensor_names = Names::new("sensor");
+    let mut sensors: Vec<Sensor> = Vec::new();
+    let mut module_names = Names::new("module");
+    let mut modules: Vec<Module> = Vec::new();
+    for doc in &order {
+        for c in &doc.clocks {
+            if clock_names.add(&c.name, clocks_def.len(), &mut out) {
+                clocks_def.push(c.clone());
+            }
+        }
+        for s in &doc.sensors {
+            if sensor_names.add(&s.name, sensors.len(), &mut out) {
+                sensors.push(s.clone());
+            }
+        }
+        for m in &doc.modules {
+            if module_names.add(&m.name, modules.len(), &mut out) {
+                modules.push(m.clone());
+            }
+        }
+    }
+
+    let clocks = clocks::resolve_clocks(
+        &clocks_def,
+        &|r: &Sp<String>, out: &mut Vec<Finding>| {
+            clock_names.lookup("the clock's `source`", r, out)
+        },
+        &mut out,
+    );
+
+    // Thresholds: rig defaults > settings > built-in.
+    let d = &rig_doc.defaults;
+    let mut threshold_spans = HashMap::new();
+    let mut pick =
+        |key: &'static str, rig: &Option<Sp<f64>>, set: Option<f64>, builtin: f64| -> f64 {
+            if let Some(v) = rig {
+                threshold_spans.insert(key, v.span);
+                v.value
+            } else {
+                set.unwrap_or(builtin)
+            }
+        };
+    let base = Thresholds::default();
+    let thresholds = Thresholds {
+        margin: pick("margin", &d.margin, settings.margin, base.margin),
+        alias_rejection: match (&d.alias_rejection, settings.alias_rejection) {
+            (Some(v), _) => Some((
+                v.value,
+                Origin::At(v.span, "the rig's `defaults.alias-rejection`"),
+            )),
+            (None, Some(v)) => Some((v, Origin::Settings)),
+            _ => None,
+        },
+        passband_tolerance: pick(
+            "passband-tolerance",
+            &d.passband_tolerance,
+            settings.passband_tolerance,
+            base.passband_tolerance,
+        ),
+        oversampling_limit: pick(
+            "oversampling-limit",
+            &d.oversampling_limit,
+            settings.oversampling_limit,
+            base.oversampling_limit,
+        ),
+        phase_tolerance: pick(
+            "phase-tolerance",
+            &d.phase_tolerance,
+            settings.phase_tolerance,
+            base.phase_tolerance,
+        ),
+    };
+
+    // Channels.
+    let mut channel_names = Names::new("channel");
+    let mut channels: Vec<RChannel> = Vec::new();
+    for c in &rig_doc.channels {
+        if !channel_names.add(&c.name, channels.len(), &mut out) {
+            continue;
+        }
+        let what = format!("channel `{}`", c.name.value);
+        let clock = c
+            .clock
+            .as_ref()
+            .and_then(|r| clock_names.lookup(&what, r, &mut out));
+        let sensor = c
+            .sensor
+            .as_ref()
+            .and_then(|r| sensor_names.lookup(&what, r, &mut out));
+        let module = c
+            .module
+            .as_ref()
+            .and_then(|r| module_names.lookup(&what, r, &mut out));
+        let refs_ok = c.clock.is_some()
+            && clock.is_some()
+            && (c.sensor.is_none() || sensor.is_some())
+            && (c.module.is_none() || module.is_some());
+        let m = module.map(|i| &modules[i]);
+        let s = sensor.map(|i| &sensors[i]);
+        let band = match (&c.band, s.and_then(|s| s.bandwidth.as_ref())) {
+            (Some(b), _) => Some(Band {
+                hz: b.value,
+                span: b.span,
+                from_sensor: false,
+            }),
+            (None, Some(bw)) => Some(Band {
+                hz: bw.value,
+                span: bw.span,
+                from_sensor: true,
+            }),
+            _ => None,
+        };
+        let (filters, filters_span) = match (&c.filters, m.and_then(|m| m.filters.as_ref())) {
+            (Some(f), _) => (f.value.clone(), Some((f.span, "the channel's `filters`"))),
+            (None, Some(f)) => (f.value.clone(), Some((f.span, "the module's `filters`"))),
+            _ => (Vec::new(), None),
+        };
+        let rejection = if let Some(r) = &c.alias_rejection {
+            (
+                r.value,
+                Origin::At(r.span, "the channel's `alias-rejection`"),
+            )
+        } else if let Some(r) = m.and_then(|m| m.alias_rejection.as_ref()) {
+            (
+                r.value,
+                Origin::At(r.span, "the module's `alias-rejection`"),
+            )
+        } else if let Some((v, o)) = &thresholds.alias_rejection {
+            (*v, o.clone())
+        } else if let Some(bits) = m.and_then(|m| m.adc_bits.as_ref()) {
+            (
+                crate::signal::fold::ideal_dynamic_range_db(bits.value),
+                Origin::AdcBits(bits.span, bits.value),
+            )
+        } else {
+            (40.0, Origin::Builtin)
+        };
+        let sample_bits = c
+            .sample_bits
+            .as_ref()
+            .map(|b| b.value)
+            .or_else(|| m.and_then(|m| m.sample_bits.as_ref()).map(|b| b.value))
+            .or_else(|| {
+                m.and_then(|m| m.adc_bits.as_ref())
+                    .map(|b| b.value.div_ceil(8) * 8)
+            })
+            .unwrap_or(32);
+        let clock_ok = clock.is_some_and(|k| clocks[k].rate.is_some());
+        channels.push(RChannel {
+            def: c.clone(),
+            clock,
+            sensor,
+            module,
+            band,
+            filters,
+            filters_span,
+            rejection,
+            sample_bits,
+            ok: refs_ok && clock_ok && !c.broken,
+        });
+    }
+
+    let mut group_names = Names::new("group");
+    let mut groups = Vec::new();
+    let mut group_members = Vec::new();
+    for g in &rig_doc.groups {
+        if !group_names.add(&g.name, groups.len(), &mut out) {
+            continue;
+        }
+        let what = format!("group `{}`", g.name.value);
+        let members = g
+            .channels
+            .iter()
+            .filter_map(|r| channel_names.lookup(&what, r, &mut out))
+            .collect();
+        groups.push(g.clone());
+        group_members.push(members);
+    }
+
+    let mut dist_names = Names::new("disturbance");
+    let mut disturbances = Vec::new();
+    let mut disturbance_targets = Vec::new();
+    for d in &rig_doc.disturbances {
+        if !dist_names.add(&d.name, disturbances.len(), &mut out) {
+            continue;
+        }
+        let what = format!("disturbance `{}`", d.name.value);
+        let targets = match &d.channels {
+            Some(list) => list
+                .iter()
+                .filter_map(|r| channel_names.lookup(&what, r, &mut out))
+                .collect(),
+            None => (0..channels.len()).collect(),
+        };
+        disturbances.push(d.clone());
+        disturbance_targets.push(targets);
+    }
+
+    let rig = Rig {
+        file: rig_doc.file,
+        name: rig_doc.name.clone(),
+        span: rig_doc.span,
+        thresholds,
+        threshold_spans,
+        clocks,
+        sensors,
+        modules,
+        channels,
+        groups,
+        group_members,
+        disturbances,
+        disturbance_targets,
+        logger: rig_doc.logger.clone(),
+    };
+    (rig, out)
+}
+
+/// A clock's rate for messages, or "an unknown rate".
+pub fn rate_text(rate: Option<Exact>) -> String {
+    rate.map(|r| format_hz(to_f64(&r)))
+        .unwrap_or_else(|| "an unknown rate".to_string())
+}

@@ -1,0 +1,541 @@
+//! Single-value checks: `module-rate`, `missing-band`, `passband-droop`, `sensor-band`,
+//! `oversampling`, `unused-clock`.
+
+use super::rates::{clock_labels, rate_channels};
+use super::{Rule, Stage};
+use crate::finding::{Finding, Label, Severity, format_db, round_to};
+use crate::model::quantity::{format_hz, sig6, to_f64};
+
+use crate::resolve::Rig;
+
+/// `module-rate`.
+pub static MODULE_RATE: Rule = Rule {
+    name: "module-rate",
+    severity: Severity::Error,
+    summary: "a channel's ADC rate is above its module's max-rate or not one of its rates",
+    explanation: "\
+A module (acquisition card) supports a highest ADC rate (`max-rate`) and sometimes only a
+fixed list of rates (`rates`). A channel whose clock works out to another rate cannot be
+configured on the hardware as described.",
+    failing: "\
+format: 1
+rig: demo
+clocks:
+  - name: base
+    frequency: 204.8 kHz
+modules:
+  - name: card-a
+    max-rate: 102.4 kHz
+channels:
+  - name: accel-1
+    clock: base
+    module: card-a
+    band: 40 kHz
+    filters:
+      - { response: butterworth, order: 8, cutoff: 48 kHz }
+",
+    passing: "\
+format: 1
+rig: demo
+clocks:
+  - name: base
+    frequency: 102.4 kHz
+modules:
+  - name: card-a
+    max-rate: 102.4 kHz
+channels:
+  - name: accel-1
+    clock: base
+    module: card-a
+    band: 20 kHz
+    filters:
+      - { response: butterworth, order: 8, cutoff: 23 kHz }
+",
+    stage: Stage::Physics,
+    check: Some(check_module_rate),
+};
+
+fn check_module_rate(rig: &Rig, out: &mut Vec<Finding>) {
+    for ch in rig.channels.iter().filter(|c| c.ok) {
+        let (Some(mi), Some(rate)) = (ch.module, rig.adc_rate(ch)) else {
+            continue;
+        };
+        let m = &rig.modules[mi];
+        let fs = to_f64(&rate);
+        let span = ch.def.clock.as_ref().map_or(ch.def.name.span, |c| c.span);
+        let name = &ch.def.name.value;
+        if let Some(max) = m.max_rate.as_ref().filter(|max| rate > max.value) {
+            let limit = to_f64(&max.value);
+            let mut f = MODULE_RATE
+                .finding(
+                    span,
+                    format!("samples at {}", format_hz(fs)),
+                    format!(
+                        "`{name}` samples at {}, above the {} max-rate of module `{}`",
+                        format_hz(fs),
+                        format_hz(limit),
+                        m.name.value
+                    ),
+                )
+                .with_channel(name)
+                .with_label(max.span, format!("max-rate {}", format_hz(limit)));
+            f.secondary
+                .extend(ch.clock.map(|k| clock_labels(rig, k)).unwrap_or_default());
+            out.push(
+                f.with_help(format!(
+                    "divide the clock down to {} or less, or use a faster module",
+                    format_hz(limit)
+                ))
+                .with_f64("rate_hz", fs)
+                .with_f64("limit_hz", limit),
+            );
+            continue;
+        }
+        if let Some(rates) = m.rates.as_ref().filter(|r| !r.value.is_empty())
+            && rates.value.iter().all(|r| r.value != rate)
+        {
+            // The nearest supported rate, as the limit.
+            let nearest = rates
+                .value
+                .iter()
+                .map(|r| to_f64(&r.value))
+                .min_by(|a, b| (a - fs).abs().total_cmp(&(b - fs).abs()))
+                .unwrap_or(0.0);
+            let list: Vec<String> = rates
+                .value
+                .iter()
+                .map(|r| format_hz(to_f64(&r.value)))
+                .collect();
+            out.push(
+                MODULE_RATE
+                    .finding(
+                        span,
+                        format!("samples at {}", format_hz(fs)),
+                        format!(
+                            "`{name}` samples at {}, which module `{}` does not support",
+                            format_hz(fs),
+                            m.name.value
+                        ),
+                    )
+                    .with_channel(name)
+                    .with_label(rates.span, format!("supported: {}", list.join(", ")))
+                    .with_help(format!(
+                        "use a clock at one of the module's rates: {}",
+                        list.join(", ")
+                    ))
+                    .with_f64("rate_hz", fs)
+                    .with_f64("limit_hz", nearest),
+            );
+        }
+    }
+}
+
+/// `missing-band`.
+pub static MISSING_BAND: Rule = Rule {
+    name: "missing-band",
+    severity: Severity::Error,
+    summary: "a channel has no band and no sensor bandwidth",
+    explanation: "\
+Every check of a channel starts from its band B, the highest frequency of interest. It is
+the channel's `band`, or else its sensor's `bandwidth`. Without either, nothing can be
+checked.",
+    failing: "\
+format: 1
+rig: demo
+clocks:
+  - name: base
+    frequency: 51.2 kHz
+channels:
+  - name: temp-1
+    clock: base
+    filters:
+      - { response: butterworth, order: 4, cutoff: 500 Hz }
+",
+    passing: "\
+format: 1
+rig: demo
+clocks:
+  - name: base
+    frequency: 2 kHz
+channels:
+  - name: temp-1
+    clock: base
+    band: 200 Hz
+    filters:
+      - { response: butterworth, order: 4, cutoff: 500 Hz }
+",
+    stage: Stage::Physics,
+    check: Some(check_missing_band),
+};
+
+fn check_missing_band(rig: &Rig, out: &mut Vec<Finding>) {
+    for ch in rig
+        .channels
+        .iter()
+        .filter(|c| c.band.is_none() && !c.def.broken)
+    {
+        if ch.def.sensor.is_some() && ch.sensor.is_none() {
+            continue; // the unknown sensor is reported; its bandwidth may be the band
+        }
+        let name = &ch.def.name.value;
+        let help = match ch.sensor.map(|s| &rig.sensors[s]) {
+            Some(s) => format!(
+                "give the channel a `band`, or sensor `{}` a `bandwidth`",
+                s.name.value
+            ),
+            None => "give the channel a `band` (the highest frequency of interest)".to_string(),
+        };
+        out.push(
+            MISSING_BAND
+                .finding(
+                    ch.def.name.span,
+                    "no band",
+                    format!("`{name}` has no band and no sensor bandwidth"),
+                )
+                .with_channel(name)
+                .with_help(help),
+        );
+    }
+}
+
+/// `passband-droop`.
+pub static PASSBAND_DROOP: Rule = Rule {
+    name: "passband-droop",
+    severity: Severity::Warning,
+    summary: "the chain attenuates the band edge by more than the passband tolerance",
+    explanation: "\
+An anti-alias filter whose cutoff sits too close to the band edge attenuates the very
+signal the channel is meant to measure. The chain's attenuation at B (analog filters,
+sensor response and every decimation filter) must stay within the passband tolerance:
+the rig's `defaults.passband-tolerance`, else foldcheck.toml, else 0.5 dB.",
+    failing: "\
+format: 1
+rig: demo
+clocks:
+  - name: base
+    frequency: 51.2 kHz
+channels:
+  - name: strain-1
+    clock: base
+    band: 10 kHz
+    filters:
+      - { response: butterworth, order: 8, cutoff: 10 kHz }
+",
+    passing: "\
+format: 1
+rig: demo
+clocks:
+  - name: base
+    frequency: 51.2 kHz
+channels:
+  - name: strain-1
+    clock: base
+    band: 10 kHz
+    filters:
+      - { response: butterworth, order: 8, cutoff: 13 kHz }
+",
+    stage: Stage::Physics,
+    check: Some(check_droop),
+};
+
+fn check_droop(rig: &Rig, out: &mut Vec<Finding>) {
+    let tol = rig.thresholds.passband_tolerance;
+    for (_, chain, band) in rate_channels(rig) {
+        let ch = chain.channel;
+        let last = chain.changes.len() - 1;
+        if chain.changes.iter().any(|rc| rc.fs_hz() <= 2.0 * band) {
+            continue; // nyquist reports the channel
+        }
+        let a = chain.attenuation_db(band, last);
+        if a <= tol + 1e-9 {
+            continue;
+        }
+        let name = &ch.def.name.value;
+        let b = ch.band.as_ref().expect("rate channels have a band");
+        let (span, label) = match &ch.filters_span {
+            Some((span, _)) if !ch.filters.is_empty() => (
+                *span,
+                format!("attenuates {} by {}", format_hz(band), format_db(a)),
+            ),
+            _ => (b.span, format!("{} at the band edge", format_db(a))),
+        };
+        let worst = chain
+            .contributions(band, last)
+            .into_iter()
+            .max_by(|x, y| x.db.total_cmp(&y.db))
+            .map(|c| format!("; most of it comes from the {}", c.what))
+            .unwrap_or_default();
+        let mut f = PASSBAND_DROOP
+            .finding(span, label, format!(
+                "the chain of `{name}` attenuates its {} band edge by {}, more than the {} dB tolerance",
+                format_hz(band),
+                format_db(a),
+                sig6(tol)
+            ))
+            .with_channel(name)
+            .with_label(b.span, format!("band {}", format_hz(band)));
+        if let Some(s) = rig.threshold_spans.get("passband-tolerance") {
+            f.secondary
+                .push(Label::new(*s, format!("tolerance {} dB", sig6(tol))));
+        }
+        out.push(
+            f.with_help(format!(
+                "move the filter's cutoff further above the band edge{worst}"
+            ))
+            .with_f64("band_hz", band)
+            .with_f64("attenuation_db", round_to(a, 3))
+            .with_f64("tolerance_db", tol),
+        );
+    }
+}
+
+/// `sensor-band`.
+pub static SENSOR_BAND: Rule = Rule {
+    name: "sensor-band",
+    severity: Severity::Warning,
+    summary: "the channel's band is above its sensor's bandwidth",
+    explanation: "\
+A sensor measures usefully only up to its `bandwidth`. A channel band above it records
+frequencies the sensor cannot deliver faithfully; the band or the sensor is probably
+wrong.",
+    failing: "\
+format: 1
+rig: demo
+clocks:
+  - name: base
+    frequency: 51.2 kHz
+sensors:
+  - name: acc-slow
+    bandwidth: 5 kHz
+channels:
+  - name: accel-1
+    clock: base
+    sensor: acc-slow
+    band: 10 kHz
+    filters:
+      - { response: butterworth, order: 8, cutoff: 13 kHz }
+",
+    passing: "\
+format: 1
+rig: demo
+clocks:
+  - name: base
+    frequency: 51.2 kHz
+sensors:
+  - name: acc-fast
+    bandwidth: 12 kHz
+channels:
+  - name: accel-1
+    clock: base
+    sensor: acc-fast
+    band: 10 kHz
+    filters:
+      - { response: butterworth, order: 8, cutoff: 13 kHz }
+",
+    stage: Stage::Physics,
+    check: Some(check_sensor_band),
+};
+
+fn check_sensor_band(rig: &Rig, out: &mut Vec<Finding>) {
+    for ch in &rig.channels {
+        let (Some(band), Some(si)) = (ch.band.as_ref().filter(|b| !b.from_sensor), ch.sensor)
+        else {
+            continue;
+        };
+        let s = &rig.sensors[si];
+        let Some(bw) = &s.bandwidth else { continue };
+        if band.hz <= bw.value {
+            continue;
+        }
+        let name = &ch.def.name.value;
+        let (b, w) = (to_f64(&band.hz), to_f64(&bw.value));
+        out.push(
+            SENSOR_BAND
+                .finding(
+                    band.span,
+                    format!("band {}", format_hz(b)),
+                    format!(
+                        "`{name}` has a {} band, above the {} bandwidth of sensor `{}`",
+                        format_hz(b),
+                        format_hz(w),
+                        s.name.value
+                    ),
+                )
+                .with_channel(name)
+                .with_label(bw.span, format!("bandwidth {}", format_hz(w)))
+                .with_help(format!(
+                    "lower the band to {} or less, or fit a sensor that reaches {}",
+                    format_hz(w),
+                    format_hz(b)
+                ))
+                .with_f64("band_hz", b)
+                .with_f64("sensor_bandwidth_hz", w),
+        );
+    }
+}
+
+/// `oversampling`.
+pub static OVERSAMPLING: Rule = Rule {
+    name: "oversampling",
+    severity: Severity::Note,
+    summary: "the final rate is far above what the band needs",
+    explanation: "\
+A final rate far above the band spends storage and throughput on frequencies nobody
+analyses. The limit is the rig's `defaults.oversampling-limit`, else foldcheck.toml, else
+20 times the band. Decimate or divide the clock down.",
+    failing: "\
+format: 1
+rig: demo
+clocks:
+  - name: base
+    frequency: 51.2 kHz
+channels:
+  - name: temp-1
+    clock: base
+    band: 1 kHz
+    filters:
+      - { response: butterworth, order: 4, cutoff: 2 kHz }
+",
+    passing: "\
+format: 1
+rig: demo
+clocks:
+  - name: base
+    frequency: 51.2 kHz
+channels:
+  - name: temp-1
+    clock: base
+    band: 1 kHz
+    filters:
+      - { response: butterworth, order: 4, cutoff: 2 kHz }
+    decimate:
+      - factor: 8
+        filter: { response: digital, passband-edge: 0.2, stopband-edge: 0.5, attenuation: 90 dB }
+",
+    stage: Stage::Physics,
+    check: Some(check_oversampling),
+};
+
+fn check_oversampling(rig: &Rig, out: &mut Vec<Finding>) {
+    let limit = rig.thresholds.oversampling_limit;
+    for (_, chain, band) in rate_channels(rig) {
+        let last = chain.changes.last().expect("ADC");
+        let fs = last.fs_hz();
+        let ratio = fs / band;
+        if ratio <= limit {
+            continue;
+        }
+        let ch = chain.channel;
+        let name = &ch.def.name.value;
+        let target = limit * band;
+        let factor = (fs / (rig.thresholds.margin.max(2.5) * band))
+            .floor()
+            .max(2.0) as u64;
+        let mut f = OVERSAMPLING
+            .finding(
+                last.span,
+                format!("{} final rate", format_hz(fs)),
+                format!(
+                    "`{name}` ends at {}, {}× its {} band (the limit is {}×)",
+                    format_hz(fs),
+                    sig6(round_to(ratio, 2)),
+                    format_hz(band),
+                    sig6(limit)
+                ),
+            )
+            .with_channel(name)
+            .with_label(
+                ch.band.as_ref().expect("band").span,
+                format!("band {}", format_hz(band)),
+            );
+        if let Some(s) = rig.threshold_spans.get("oversampling-limit") {
+            f.secondary
+                .push(Label::new(*s, format!("limit {}×", sig6(limit))));
+        }
+        out.push(
+            f.with_help(format!(
+                "decimate by up to {factor} (with a filter) or divide the clock down: {} or less is enough",
+                format_hz(target)
+            ))
+            .with_f64("rate_hz", fs)
+            .with_f64("band_hz", band)
+            .with_f64("ratio", round_to(ratio, 4)),
+        );
+    }
+}
+
+/// `unused-clock`.
+pub static UNUSED_CLOCK: Rule = Rule {
+    name: "unused-clock",
+    severity: Severity::Note,
+    summary: "a clock drives no channel, directly or through derived clocks",
+    explanation: "\
+A clock that no channel samples on, directly or through clocks derived from it, is dead
+configuration, or a channel names the wrong clock. Only clocks defined in the rig file
+itself are checked: a shared catalog's clocks serve many rigs.",
+    failing: "\
+format: 1
+rig: demo
+clocks:
+  - name: base
+    frequency: 3 kHz
+  - name: spare
+    frequency: 10 MHz
+channels:
+  - name: temp-1
+    clock: base
+    band: 200 Hz
+    filters:
+      - { response: butterworth, order: 4, cutoff: 500 Hz }
+",
+    passing: "\
+format: 1
+rig: demo
+clocks:
+  - name: base
+    frequency: 3 kHz
+channels:
+  - name: temp-1
+    clock: base
+    band: 200 Hz
+    filters:
+      - { response: butterworth, order: 4, cutoff: 500 Hz }
+",
+    stage: Stage::Physics,
+    check: Some(check_unused_clock),
+};
+
+fn check_unused_clock(rig: &Rig, out: &mut Vec<Finding>) {
+    // A channel whose clock reference is broken might have meant any clock: stay quiet.
+    if rig
+        .channels
+        .iter()
+        .any(|c| c.def.clock.is_some() && c.clock.is_none())
+    {
+        return;
+    }
+    for (i, c) in rig.clocks.iter().enumerate() {
+        if c.def.name.span.file != rig.file || c.in_cycle {
+            continue;
+        }
+        if rig
+            .channels
+            .iter()
+            .any(|ch| ch.clock.is_some_and(|k| rig.derives_from(k, i)))
+        {
+            continue;
+        }
+        out.push(
+            UNUSED_CLOCK
+                .finding(
+                    c.def.name.span,
+                    "drives no channel",
+                    format!(
+                        "clock `{}` drives no channel, directly or through derived clocks",
+                        c.def.name.value
+                    ),
+                )
+                .with_help("remove it, or point the channel that should use it at it"),
+        );
+    }
+}

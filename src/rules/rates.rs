@@ -1,0 +1,317 @@
+//! `nyquist` and `sampling-margin`: the rate at every rate change against the band.
+
+use super::fix;
+use super::{Rule, Stage};
+use crate::finding::{Finding, Label, Severity, round_to};
+use crate::model::ClockDef;
+use crate::model::quantity::{format_hz, sig6, to_f64};
+use crate::resolve::chain::{Chain, RateChange};
+use crate::resolve::{RChannel, Rig};
+
+/// `nyquist`.
+pub static NYQUIST: Rule = Rule {
+    name: "nyquist",
+    severity: Severity::Error,
+    summary: "a rate change samples at or below twice the channel's band",
+    explanation: "\
+The sampling theorem (C. E. Shannon, 1949) needs the sample rate to be above twice the
+highest frequency of interest. At or below it, part of the band folds onto itself and
+cannot be told apart afterwards. The rule checks the ADC rate (the channel's clock, worked
+out exactly through the clock tree) and the rate after every decimation stage against
+the channel's `band` (or its sensor's `bandwidth`).",
+    failing: "\
+format: 1
+rig: demo
+clocks:
+  - name: osc
+    frequency: 24.576 MHz
+  - name: slow
+    source: osc
+    divide: 32768
+channels:
+  - name: mic-1
+    clock: slow
+    band: 400 Hz
+    filters: []
+",
+    passing: "\
+format: 1
+rig: demo
+clocks:
+  - name: osc
+    frequency: 24.576 MHz
+  - name: slow
+    source: osc
+    divide: 8192
+channels:
+  - name: mic-1
+    clock: slow
+    band: 400 Hz
+    filters:
+      - { response: butterworth, order: 4, cutoff: 600 Hz }
+",
+    stage: Stage::Physics,
+    check: Some(check_nyquist),
+};
+
+/// `sampling-margin`.
+pub static SAMPLING_MARGIN: Rule = Rule {
+    name: "sampling-margin",
+    severity: Severity::Warning,
+    summary: "a rate change is above twice the band but below the practical margin",
+    explanation: "\
+Above twice the band is the theoretical minimum; practice (common practice, no single
+source) samples at about 2.5 to 3 times the band so that a real anti-alias filter has
+room to roll off between the band edge and the first frequency that folds back. The
+margin is `defaults.margin` of the rig, else `margin` in foldcheck.toml, else 2.5. The
+audio CD's 44.1 kHz for a 20 kHz band (ratio 2.205) is the classic example of a rate
+just above the minimum.",
+    failing: "\
+format: 1
+rig: demo
+clocks:
+  - name: cd
+    frequency: 44.1 kHz
+channels:
+  - name: left
+    clock: cd
+    band: 20 kHz
+    filters:
+      - { response: digital, passband-edge: 0.454, stopband-edge: 0.546, attenuation: 100 dB }
+",
+    passing: "\
+format: 1
+rig: demo
+clocks:
+  - name: studio
+    frequency: 96 kHz
+channels:
+  - name: left
+    clock: studio
+    band: 20 kHz
+    filters:
+      - { response: digital, passband-edge: 0.454, stopband-edge: 0.546, attenuation: 100 dB }
+",
+    stage: Stage::Physics,
+    check: Some(check_margin),
+};
+
+/// Labels along a clock path: the root frequency and every divider and multiplier.
+pub fn clock_labels(rig: &Rig, clock: usize) -> Vec<Label> {
+    let mut labels = Vec::new();
+    for i in rig.clock_path(clock) {
+        let c = &rig.clocks[i];
+        match &c.def.def {
+            ClockDef::Root { frequency } => labels.push(Label::new(
+                frequency.span,
+                format!(
+                    "`{}` runs at {}",
+                    c.def.name.value,
+                    format_hz(to_f64(&frequency.value))
+                ),
+            )),
+            ClockDef::Derived {
+                source,
+                divide,
+                multiply,
+            } => {
+                let from = c
+                    .parent
+                    .and_then(|p| rig.clocks[p].rate)
+                    .map(|r| format_hz(to_f64(&r)));
+                let from = from.unwrap_or_else(|| format!("`{}`", source.value));
+                if let Some(m) = multiply.as_ref().filter(|m| m.value != 1) {
+                    labels.push(Label::new(
+                        m.span,
+                        format!("multiplies {from} by {}", m.value),
+                    ));
+                }
+                match divide {
+                    Some(d) => labels.push(Label::new(
+                        d.span,
+                        format!(
+                            "divides {from} by {} to {}",
+                            d.value,
+                            crate::resolve::rate_text(c.rate)
+                        ),
+                    )),
+                    None if multiply.is_none() => labels.push(Label::new(
+                        source.span,
+                        format!("runs at the rate of `{}`", source.value),
+                    )),
+                    None => {}
+                }
+            }
+            ClockDef::Invalid => {}
+        }
+    }
+    labels
+}
+
+/// The labels for a rate change: the stage's own value and, for the ADC, the clock path.
+pub fn rate_labels(rig: &Rig, ch: &RChannel, rc: &RateChange) -> Vec<Label> {
+    if rc.stage == 0 {
+        ch.clock.map(|k| clock_labels(rig, k)).unwrap_or_default()
+    } else {
+        Vec::new()
+    }
+}
+
+/// "samples at 750 Hz" / "decimation stage 2 leaves 750 Hz".
+pub fn rate_phrase(rc: &RateChange) -> String {
+    if rc.stage == 0 {
+        format!("samples at {}", format_hz(rc.fs_hz()))
+    } else {
+        format!(
+            "decimation stage {} leaves {}",
+            rc.stage,
+            format_hz(rc.fs_hz())
+        )
+    }
+}
+
+/// "samples at 750 Hz" / "is left at 750 Hz after decimation stage 2", for messages.
+pub fn rate_clause(rc: &RateChange) -> String {
+    if rc.stage == 0 {
+        format!("samples at {}", format_hz(rc.fs_hz()))
+    } else {
+        format!(
+            "is left at {} after decimation stage {}",
+            format_hz(rc.fs_hz()),
+            rc.stage
+        )
+    }
+}
+
+/// The channels whose rate rules can run, with their chain and band in Hz.
+pub fn rate_channels(rig: &Rig) -> impl Iterator<Item = (usize, Chain<'_>, f64)> {
+    rig.channels
+        .iter()
+        .enumerate()
+        .filter(|(_, c)| c.ok)
+        .filter_map(move |(i, c)| {
+            let band = to_f64(&c.band.as_ref()?.hz);
+            Some((i, Chain::new(rig, c)?, band))
+        })
+}
+
+/// Help for a rate rule at rate change `rc`.
+pub fn help_for(
+    chain: &Chain,
+    ci: usize,
+    rc: &RateChange,
+    band: f64,
+    with_filter: bool,
+) -> Option<String> {
+    let margin = chain.rig.thresholds.margin;
+    let required = chain.channel.rejection.0;
+    if rc.stage == 0 {
+        fix::adc_help(chain, ci, band, margin, required, with_filter)
+    } else {
+        fix::stage_help(chain, rc.stage, band, margin, required, with_filter)
+    }
+}
+
+fn band_label(ch: &RChannel, band: f64) -> Label {
+    let b = ch.band.as_ref().expect("rate channels have a band");
+    if b.from_sensor {
+        Label::new(
+            b.span,
+            format!("the sensor's bandwidth, {}, is the band", format_hz(band)),
+        )
+    } else {
+        Label::new(b.span, format!("band {}", format_hz(band)))
+    }
+}
+
+fn check_nyquist(rig: &Rig, out: &mut Vec<Finding>) {
+    for (ci, chain, band) in rate_channels(rig) {
+        let ch = chain.channel;
+        let Some(rc) = chain.changes.iter().find(|rc| rc.fs_hz() <= 2.0 * band) else {
+            continue;
+        };
+        let fs = rc.fs_hz();
+        let ratio = fs / band;
+        let mut f = NYQUIST
+            .finding(
+                rc.span,
+                rate_phrase(rc),
+                format!(
+                    "`{}` {}, which is not above twice its {} band",
+                    ch.def.name.value,
+                    rate_clause(rc),
+                    format_hz(band)
+                ),
+            )
+            .with_channel(&ch.def.name.value);
+        f.secondary.push(band_label(ch, band));
+        f.secondary.extend(rate_labels(rig, ch, rc));
+        f = f
+            .with_help_opt(help_for(&chain, ci, rc, band, false).or_else(|| {
+                Some(format!(
+                    "sample above {} (twice the band)",
+                    format_hz(2.0 * band)
+                ))
+            }))
+            .with_f64("rate_hz", fs)
+            .with_f64("band_hz", band)
+            .with_f64("ratio", round_to(ratio, 4))
+            .with_value("stage", rc.stage);
+        out.push(f);
+    }
+}
+
+fn check_margin(rig: &Rig, out: &mut Vec<Finding>) {
+    let margin = rig.thresholds.margin;
+    for (ci, chain, band) in rate_channels(rig) {
+        let ch = chain.channel;
+        // Only where nyquist holds at every earlier rate change: no cascades.
+        for rc in &chain.changes {
+            let fs = rc.fs_hz();
+            if fs <= 2.0 * band {
+                break;
+            }
+            if fs >= margin * band {
+                continue;
+            }
+            let ratio = fs / band;
+            let mut f = SAMPLING_MARGIN
+                .finding(
+                    rc.span,
+                    format!(
+                        "{}, {}× the band",
+                        rate_phrase(rc),
+                        sig6(round_to(ratio, 3))
+                    ),
+                    format!(
+                        "`{}` {}, only {}× its {} band (the margin is {}×)",
+                        ch.def.name.value,
+                        rate_clause(rc),
+                        sig6(round_to(ratio, 3)),
+                        format_hz(band),
+                        sig6(margin)
+                    ),
+                )
+                .with_channel(&ch.def.name.value);
+            f.secondary.push(band_label(ch, band));
+            if let Some(span) = rig.threshold_spans.get("margin") {
+                f.secondary
+                    .push(Label::new(*span, format!("margin {}×", sig6(margin))));
+            }
+            f.secondary.extend(rate_labels(rig, ch, rc));
+            f = f
+                .with_help_opt(
+                    help_for(&chain, ci, rc, band, false).or_else(|| {
+                        Some(format!("sample at {} or more", format_hz(margin * band)))
+                    }),
+                )
+                .with_f64("rate_hz", fs)
+                .with_f64("band_hz", band)
+                .with_f64("ratio", round_to(ratio, 4))
+                .with_f64("margin", margin)
+                .with_value("stage", rc.stage);
+            out.push(f);
+            break;
+        }
+    }
+}

@@ -1,0 +1,208 @@
+//! Source files, byte spans and line indexes: the front end of the pipeline.
+//!
+//! Every value the program reads remembers the file it came from and the byte range it
+//! occupies there ([`Span`]). Lines and columns are computed only when a finding is
+//! rendered, from the per-file [`LineIndex`].
+
+pub mod yaml;
+
+use std::path::{Path, PathBuf};
+
+/// Index of a file in [`Sources`].
+pub type FileId = u32;
+
+/// A byte range in one source file.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub struct Span {
+    /// The file the range belongs to.
+    pub file: FileId,
+    /// First byte.
+    pub start: u32,
+    /// One past the last byte.
+    pub end: u32,
+}
+
+impl Span {
+    /// A span from `start` to `end` in `file`.
+    pub fn new(file: FileId, start: usize, end: usize) -> Self {
+        let start = u32::try_from(start).unwrap_or(u32::MAX);
+        let end = u32::try_from(end).unwrap_or(u32::MAX).max(start);
+        Span { file, start, end }
+    }
+
+    /// An empty span at `at`.
+    pub fn point(file: FileId, at: usize) -> Self {
+        Span::new(file, at, at)
+    }
+
+    /// Whether `other` lies within this span (same file).
+    pub fn contains(&self, other: &Span) -> bool {
+        self.file == other.file && self.start <= other.start && other.end <= self.end
+    }
+
+    /// The smallest span covering both (same file assumed; otherwise `self`).
+    pub fn join(&self, other: &Span) -> Span {
+        if self.file != other.file {
+            return *self;
+        }
+        Span {
+            file: self.file,
+            start: self.start.min(other.start),
+            end: self.end.max(other.end),
+        }
+    }
+
+    /// Length in bytes.
+    pub fn len(&self) -> usize {
+        (self.end - self.start) as usize
+    }
+
+    /// Whether the span is empty.
+    pub fn is_empty(&self) -> bool {
+        self.end == self.start
+    }
+}
+
+/// Line starts of a text, for turning byte offsets into 1-based line and column.
+#[derive(Debug, Clone)]
+pub struct LineIndex {
+    starts: Vec<usize>,
+}
+
+impl LineIndex {
+    /// Index the lines of `text`.
+    pub fn new(text: &str) -> Self {
+        let mut starts = vec![0];
+        starts.extend(
+            text.bytes()
+                .enumerate()
+                .filter(|(_, b)| *b == b'\n')
+                .map(|(i, _)| i + 1),
+        );
+        LineIndex { starts }
+    }
+
+    /// 1-based line and 1-based column (in characters) of byte `offset` in `text`.
+    pub fn line_col(&self, text: &str, offset: usize) -> (usize, usize) {
+        let offset = offset.min(text.len());
+        let line = self.starts.partition_point(|&s| s <= offset) - 1;
+        let start = self.starts[line];
+        let mut end = offset;
+        while end > start && !text.is_char_boundary(end) {
+            end -= 1;
+        }
+        let col = text[start..end].chars().count() + 1;
+        (line + 1, col)
+    }
+
+    /// Byte offset of 1-based `line` and 1-based character `column`, clamped to the text.
+    pub fn offset(&self, text: &str, line: usize, column: usize) -> usize {
+        let Some(&start) = self.starts.get(line.saturating_sub(1)) else {
+            return text.len();
+        };
+        let rest = &text[start..];
+        let line_len = rest.find('\n').unwrap_or(rest.len());
+        rest[..line_len]
+            .char_indices()
+            .nth(column.saturating_sub(1))
+            .map(|(i, _)| start + i)
+            .unwrap_or(start + line_len)
+    }
+
+    /// Number of lines.
+    pub fn lines(&self) -> usize {
+        self.starts.len()
+    }
+}
+
+/// One loaded file.
+#[derive(Debug)]
+pub struct SourceFile {
+    /// Its id in [`Sources`].
+    pub id: FileId,
+    /// The path used to open it.
+    pub path: PathBuf,
+    /// The path as shown to the user (relative stays relative).
+    pub display: String,
+    /// The text (lossily decoded when the file is not UTF-8; a finding says so).
+    pub text: String,
+    /// Line starts.
+    pub lines: LineIndex,
+}
+
+impl SourceFile {
+    /// 1-based line and column of a byte offset.
+    pub fn line_col(&self, offset: u32) -> (usize, usize) {
+        self.lines.line_col(&self.text, offset as usize)
+    }
+
+    /// The text a span covers.
+    pub fn slice(&self, span: Span) -> &str {
+        self.text
+            .get(span.start as usize..span.end as usize)
+            .unwrap_or("")
+    }
+}
+
+/// All files read in one run; spans refer into it by [`FileId`].
+#[derive(Debug, Default)]
+pub struct Sources {
+    files: Vec<SourceFile>,
+}
+
+impl Sources {
+    /// An empty set.
+    pub fn new() -> Self {
+        Sources::default()
+    }
+
+    /// Add a file's text and return its id.
+    pub fn add(&mut self, path: &Path, display: String, text: String) -> FileId {
+        let id = FileId::try_from(self.files.len()).expect("fewer than 2^32 files");
+        let lines = LineIndex::new(&text);
+        self.files.push(SourceFile {
+            id,
+            path: path.to_path_buf(),
+            display,
+            text,
+            lines,
+        });
+        id
+    }
+
+    /// The file with this id.
+    pub fn get(&self, id: FileId) -> &SourceFile {
+        &self.files[id as usize]
+    }
+
+    /// All files, in the order they were added.
+    pub fn iter(&self) -> impl Iterator<Item = &SourceFile> {
+        self.files.iter()
+    }
+
+    /// Number of files.
+    pub fn len(&self) -> usize {
+        self.files.len()
+    }
+
+    /// Whether no file was added.
+    pub fn is_empty(&self) -> bool {
+        self.files.is_empty()
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn line_col_counts_characters_not_bytes() {
+        let text = "a: 1\nµs: 2\n";
+        let idx = LineIndex::new(text);
+        assert_eq!(idx.line_col(text, 0), (1, 1));
+        assert_eq!(idx.line_col(text, 5), (2, 1));
+        // byte 7 is after the two-byte µ and the s: column 3 in characters
+        assert_eq!(idx.line_col(text, 8), (2, 3));
+        assert_eq!(idx.offset(text, 2, 3), 8);
+    }
+}

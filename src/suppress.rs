@@ -1,0 +1,282 @@
+//! Suppression comments: `# foldcheck: allow <rule>[, <rule>…] -- <reason>`.
+//!
+//! On a line of its own, a comment covers the YAML node that starts on the next line and
+//! everything inside it; at the end of a line, the node that starts on that line. "The
+//! node that starts on a line" is the outermost list item or mapping entry whose first
+//! byte is on that line.
+
+use crate::finding::{Finding, Label, Severity};
+use crate::source::yaml::{Node, NodeKind};
+use crate::source::{FileId, LineIndex, Span};
+
+/// The marker that starts a suppression comment.
+pub const MARKER: &str = "foldcheck:";
+
+/// One suppression comment.
+#[derive(Clone, Debug)]
+pub struct Suppression {
+    /// The comment.
+    pub comment: Span,
+    /// The rules it names.
+    pub rules: Vec<String>,
+    /// Its reason (may be empty: a finding).
+    pub reason: String,
+    /// The node it covers (None: nothing starts on that line).
+    pub covers: Option<Span>,
+    /// Whether it suppressed something.
+    pub used: bool,
+}
+
+/// Find a comment's start on a line: `#` at the start or after whitespace, outside quotes.
+fn comment_start(line: &str) -> Option<usize> {
+    let (mut single, mut double) = (false, false);
+    let mut prev_ws = true;
+    let bytes = line.as_bytes();
+    let mut i = 0;
+    while i < bytes.len() {
+        let b = bytes[i];
+        match b {
+            b'\'' if !double => single = !single,
+            b'"' if !single => double = !double,
+            b'\\' if double => i += 1,
+            b'#' if !single && !double && prev_ws => return Some(i),
+            _ => {}
+        }
+        prev_ws = b == b' ' || b == b'\t';
+        i += 1;
+    }
+    None
+}
+
+/// Scan a file for suppression comments, and work out what each covers.
+pub fn scan(
+    file: FileId,
+    text: &str,
+    lines: &LineIndex,
+    root: Option<&Node>,
+) -> (Vec<Suppression>, Vec<Finding>) {
+    let mut starts: Vec<(usize, Span)> = Vec::new(); // (line, span) of nodes that start on a line
+    if let Some(root) = root {
+        collect(root, text, lines, &mut starts);
+    }
+    let mut out = Vec::new();
+    let mut findings = Vec::new();
+    let mut offset = 0;
+    let all_lines: Vec<&str> = text.split_inclusive('\n').collect();
+    for (li, line) in all_lines.iter().enumerate() {
+        let line_start = offset;
+        offset += line.len();
+        let Some(c) = comment_start(line) else {
+            continue;
+        };
+        let body = line[c + 1..].trim_end_matches(['\n', '\r']).trim();
+        let Some(rest) = body.strip_prefix(MARKER) else {
+            continue;
+        };
+        let comment = Span::new(
+            file,
+            line_start + c,
+            line_start + line.trim_end_matches(['\n', '\r']).len(),
+        );
+        let rest = rest.trim();
+        let Some(list) = rest.strip_prefix("allow") else {
+            findings.push(
+                Finding::new(
+                    "suppression",
+                    Severity::Warning,
+                    Label::new(comment, "not a suppression"),
+                    "a `foldcheck:` comment must read `foldcheck: allow <rule> -- <reason>`",
+                )
+                .with_help("write `# foldcheck: allow <rule>[, <rule>…] -- <reason>`"),
+            );
+            continue;
+        };
+        let (names, reason) = match list.split_once("--") {
+            Some((n, r)) => (n, r.trim()),
+            None => (list, ""),
+        };
+        let rules: Vec<String> = names
+            .split(',')
+            .map(|s| s.trim().to_string())
+            .filter(|s| !s.is_empty())
+            .collect();
+        let own_line = line[..c].trim().is_empty();
+        let target_line = if own_line {
+            // The next line that holds something other than blanks and comments.
+            (li + 1..all_lines.len()).find(|&l| {
+                let t = all_lines[l].trim();
+                !t.is_empty() && !t.starts_with('#')
+            })
+        } else {
+            Some(li)
+        };
+        let covers = target_line.and_then(|l| {
+            starts
+                .iter()
+                .filter(|(sl, _)| *sl == l + 1)
+                .max_by_key(|(_, s)| s.len())
+                .map(|(_, s)| *s)
+        });
+        out.push(Suppression {
+            comment,
+            rules,
+            reason: reason.to_string(),
+            covers,
+            used: false,
+        });
+    }
+    (out, findings)
+}
+
+fn collect(node: &Node, text: &str, lines: &LineIndex, out: &mut Vec<(usize, Span)>) {
+    let line_of = |s: &Span| lines.line_col(text, s.start as usize).0;
+    match &node.kind {
+        NodeKind::Seq(items) => {
+            for item in items {
+                // A list item starts at its dash: back up over "- " to include it.
+                let mut start = item.span.start as usize;
+                let bytes = text.as_bytes();
+                let mut i = start;
+                while i > 0 && bytes[i - 1] == b' ' {
+                    i -= 1;
+                }
+                if i > 0 && bytes[i - 1] == b'-' {
+                    start = i - 1;
+                }
+                let span = Span {
+                    start: start as u32,
+                    ..item.span
+                };
+                out.push((line_of(&span), span));
+                collect(item, text, lines, out);
+            }
+        }
+        NodeKind::Map(entries) => {
+            for (k, v) in entries {
+                let span = k.span.join(&v.span);
+                out.push((line_of(&span), span));
+                collect(v, text, lines, out);
+            }
+        }
+        _ => {}
+    }
+}
+
+/// Mark findings covered by suppressions, and report unused or malformed suppressions.
+pub fn apply(sups: &mut [Suppression], findings: &mut [Finding], out: &mut Vec<Finding>) {
+    for s in sups.iter_mut() {
+        let unknown: Vec<&String> = s
+            .rules
+            .iter()
+            .filter(|r| crate::rules::rule(r).is_none())
+            .collect();
+        if s.rules.is_empty() {
+            out.push(
+                Finding::new(
+                    "suppression",
+                    Severity::Warning,
+                    Label::new(s.comment, "names no rule"),
+                    "the suppression names no rule",
+                )
+                .with_help("write `# foldcheck: allow <rule> -- <reason>`"),
+            );
+            continue;
+        }
+        if let Some(u) = unknown.first() {
+            let hint = crate::resolve::closest(u, crate::rules::RULES.iter().map(|r| r.name))
+                .map(|b| format!("did you mean `{b}`?"))
+                .unwrap_or_else(|| "`foldcheck rules` lists the rules".to_string());
+            out.push(
+                Finding::new(
+                    "suppression",
+                    Severity::Warning,
+                    Label::new(s.comment, "unknown rule"),
+                    format!("the suppression names `{u}`, which is not a rule"),
+                )
+                .with_help(hint),
+            );
+            continue;
+        }
+        if s.reason.is_empty() {
+            out.push(
+                Finding::new("suppression", Severity::Warning, Label::new(s.comment, "no reason"), "the suppression gives no reason")
+                    .with_help("add the reason after `--`, e.g. `-- reviewed with the test lead, band is nominal`"),
+            );
+            continue;
+        }
+        let Some(covers) = s.covers else {
+            out.push(
+                Finding::new(
+                    "suppression",
+                    Severity::Warning,
+                    Label::new(s.comment, "covers nothing"),
+                    "the suppression covers no YAML node",
+                )
+                .with_help(
+                    "put it on the line above the node, or at the end of the node's first line",
+                ),
+            );
+            continue;
+        };
+        for f in findings.iter_mut() {
+            if f.suppressed.is_none()
+                && s.rules.iter().any(|r| r == f.rule)
+                && covers.contains(&f.primary.span)
+            {
+                f.suppressed = Some(s.reason.clone());
+                s.used = true;
+            }
+        }
+        if !s.used {
+            out.push(
+                Finding::new(
+                    "suppression",
+                    Severity::Warning,
+                    Label::new(s.comment, "suppresses nothing"),
+                    format!(
+                        "the suppression of {} suppresses nothing",
+                        s.rules
+                            .iter()
+                            .map(|r| format!("`{r}`"))
+                            .collect::<Vec<_>>()
+                            .join(", ")
+                    ),
+                )
+                .with_label(covers, "covers this")
+                .with_help("remove it: the finding it was for is gone"),
+            );
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn own_line_comment_covers_the_next_item() {
+        let text = "channels:\n  # foldcheck: allow nyquist -- accepted for the shaker survey\n  - name: a\n    band: 2 kHz\n  - name: b\n";
+        let idx = LineIndex::new(text);
+        let root = crate::source::yaml::parse(0, text, &idx).unwrap();
+        let (sups, f) = scan(0, text, &idx, Some(&root));
+        assert!(f.is_empty());
+        assert_eq!(sups.len(), 1);
+        let c = sups[0].covers.unwrap();
+        assert_eq!(
+            &text[c.start as usize..c.end as usize],
+            "- name: a\n    band: 2 kHz"
+        );
+        assert_eq!(sups[0].reason, "accepted for the shaker survey");
+    }
+
+    #[test]
+    fn trailing_comment_covers_its_line_and_hash_in_quotes_is_not_a_comment() {
+        let text = "a: '# foldcheck: allow x'\nb: 1 # foldcheck: allow nyquist -- why\n";
+        let idx = LineIndex::new(text);
+        let root = crate::source::yaml::parse(0, text, &idx).unwrap();
+        let (sups, _) = scan(0, text, &idx, Some(&root));
+        assert_eq!(sups.len(), 1);
+        let c = sups[0].covers.unwrap();
+        assert_eq!(&text[c.start as usize..c.end as usize], "b: 1");
+    }
+}
