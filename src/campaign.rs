@@ -539,7 +539,7 @@ fn include_all(
         if !real.starts_with(root) {
             out.push(include_finding(
                 "outside the campaign root",
-                format!("the included file `{}` lies outside the campaign root {}", inc.value, root.display()),
+                format!("the included file `{}` lies outside the campaign root", inc.value),
                 "keep shared catalogs inside the campaign (the directory of foldcheck.toml, or the one linted)",
             ));
             continue;

@@ -392,7 +392,9 @@ impl<'a> Builder<'a> {
                     "decimate" => c.decimate = b.list(v, Self::stage),
                     "alias-rejection" => c.alias_rejection = b.db_positive(v),
                     "sample-bits" => c.sample_bits = b.small(v, 1, 64),
-                    _ => {}
+                    // An unknown key (reported by the schema) may be a misspelt one:
+                    // the channel is not checked further, so a typo gives one finding.
+                    _ => b.broken = true,
                 }
             }
         });

@@ -90,6 +90,17 @@ pub fn check(root: &Node, text: &str) -> Vec<Finding> {
                 )
                 .with_help(format!("add `{name}`"))
             }
+            ValidationErrorKind::FalseSchema => {
+                let name = path.last().cloned().unwrap_or_default();
+                let parent = describe_path(&path[..path.len().saturating_sub(1)]);
+                Finding::new(
+                    "schema",
+                    Severity::Error,
+                    Label::new(key.unwrap_or(node.span), "not allowed here"),
+                    format!("`{name}` is not allowed in {parent}"),
+                )
+                .with_help(false_schema_help(&path))
+            }
             ValidationErrorKind::Type { .. } => Finding::new(
                 "schema",
                 Severity::Error,
@@ -107,6 +118,17 @@ pub fn check(root: &Node, text: &str) -> Vec<Finding> {
     }
     out.dedup_by(|a, b| a.primary.span == b.primary.span && a.message == b.message);
     out
+}
+
+/// Why a key is refused where the schema says `false`.
+fn false_schema_help(path: &[String]) -> String {
+    let key = path.last().map(String::as_str).unwrap_or("");
+    match (path.first().map(String::as_str), key) {
+        (Some("clocks"), "divide" | "multiply" | "source") => {
+            "a root clock has a `frequency` and nothing else; a derived clock has a `source` (and `divide`/`multiply`)".to_string()
+        }
+        _ => format!("remove `{key}`"),
+    }
 }
 
 /// The library's message, lowercased at the start and without a final period.

@@ -70,7 +70,7 @@ fn folded_through(chain: &Chain, f: f64, upto: usize) -> f64 {
 }
 
 fn check(rig: &Rig, out: &mut Vec<Finding>) {
-    for (ci, chain, band) in rate_channels(rig) {
+    for (_, chain, band) in rate_channels(rig) {
         let ch = chain.channel;
         let required = ch.rejection.0;
         let mut worst: Option<Shortfall> = None;
@@ -197,10 +197,14 @@ fn check(rig: &Rig, out: &mut Vec<Finding>) {
             ),
             _ => None,
         };
-        let help = help_for(&chain, ci, w.rc, band, true);
+        let target = super::fix::FilterTarget {
+            frequency: w.fold_from,
+            needed_db: required + w.resonance.map_or(0.0, |(_, gain)| gain),
+        };
+        let help = help_for(&chain, w.rc, band, Some(target));
         f = f
             .with_help_opt(match (help, origin) {
-                (Some(h), Some(o)) => Some(format!("{h} ({o})")),
+                (Some(h), Some(o)) => Some(format!("{h}; {o}")),
                 (h, _) => h,
             })
             .with_f64("rate_hz", w.rc.fs_hz())

@@ -85,9 +85,9 @@ fn check(rig: &Rig, out: &mut Vec<Finding>) {
                     if a < required {
                         let name = &ch.def.name.value;
                         let where_ = if rc.stage == 0 {
-                            format!("sampling at {}", format_hz(fs))
+                            format!("the ADC ({})", format_hz(fs))
                         } else {
-                            format!("decimation stage {} to {}", rc.stage, format_hz(fs))
+                            format!("decimation stage {} ({})", rc.stage, format_hz(fs))
                         };
                         let mut f = DISTURBANCE_ALIAS
                             .finding(
@@ -114,7 +114,7 @@ fn check(rig: &Rig, out: &mut Vec<Finding>) {
                         f.secondary.extend(rate_labels(rig, ch, rc));
                         f = f
                             .with_help(format!(
-                                "filter the tone by {} before this rate change (e.g. a steeper anti-alias filter), or choose a rate at which {} does not fold into the band",
+                                "attenuate the tone by another {} before this rate change (a steeper anti-alias filter), or choose a rate at which {} does not fold into the band",
                                 format_db(required - a).replace(".00", ""),
                                 format_hz(fd)
                             ))

@@ -65,87 +65,116 @@ fn others(n: usize) -> String {
     }
 }
 
-/// Help for a problem at the ADC (stage 0) of channel `ci`.
+/// What an ADC-stage fix must reach with a filter when no rate works: the frequency
+/// that fails and the attenuation the whole chain needs there.
+#[derive(Clone, Copy, Debug)]
+pub struct FilterTarget {
+    /// The frequency to attenuate.
+    pub frequency: f64,
+    /// The attenuation the chain needs there (required rejection, plus a resonance's gain).
+    pub needed_db: f64,
+}
+
+/// How many candidate dividers to try at most (the search starts at the largest
+/// divider that can reach the lowest acceptable rate, so few are needed).
+const DIVIDER_TRIES: u64 = 4096;
+
+/// Help for a problem at the ADC (stage 0). `filter` says what a filter change must
+/// reach when no clock setting fixes the problem (None: rate rules only).
 pub fn adc_help(
     chain: &Chain,
-    ci: usize,
     band: f64,
     margin: f64,
     required: f64,
-    with_filter: bool,
+    filter: Option<FilterTarget>,
 ) -> Option<String> {
     let rig = chain.rig;
     let ch = chain.channel;
     let clock = ch.clock?;
-    let mut parts = Vec::new();
-    // The ADC rate of candidates must pass the rules and the module's limits.
-    let good = |rate: &Exact| {
-        module_allows(rig, ch.module, rate)
-            && rate_is_good(chain, 0, to_f64(rate), band, margin, required)
+    // Decimation after the ADC divides the final rate further.
+    let total_factor: f64 = chain
+        .changes
+        .iter()
+        .map(|rc| f64::from(rc.factor))
+        .product();
+    let limit = rig.thresholds.oversampling_limit * band * total_factor;
+    let usable = |rate: &Exact, with_alias: bool| {
+        let fs = to_f64(rate);
+        fs <= limit
+            && module_allows(rig, ch.module, rate)
+            && if with_alias {
+                rate_is_good(chain, 0, fs, band, margin, required)
+            } else {
+                fs > 2.0 * band && fs >= margin * band
+            }
     };
-
-    // 1. A divider on the channel's own clock.
-    let c = &rig.clocks[clock];
-    if let ClockDef::Derived {
-        source,
-        divide,
-        multiply,
-    } = &c.def.def
-        && let Some(src_rate) = c.parent.and_then(|p| rig.clocks[p].rate)
-    {
-        let m = multiply.as_ref().map_or(1, |m| m.value);
-        let d = divide.as_ref().map_or(1, |d| d.value);
-        let base = src_rate * Exact::from_integer(m as i128);
-        // Largest divider below the current one that passes.
-        let best = (1..d)
-            .rev()
-            .find(|&nd| good(&(base / Exact::from_integer(nd as i128))));
-        if let Some(nd) = best {
-            let rate = base / Exact::from_integer(nd as i128);
-            let sharing = rig.channels_under(clock).len().saturating_sub(1);
+    let lowest = (margin * band).max(2.0 * band);
+    let suggest = |with_alias: bool| -> Vec<String> {
+        let mut parts = Vec::new();
+        // 1. A divider on the channel's own clock.
+        let c = &rig.clocks[clock];
+        if let ClockDef::Derived {
+            source,
+            divide,
+            multiply,
+        } = &c.def.def
+            && let Some(src_rate) = c.parent.and_then(|p| rig.clocks[p].rate)
+        {
+            let m = multiply.as_ref().map_or(1, |m| m.value);
+            let d = divide.as_ref().map_or(1, |d| d.value);
+            let base = src_rate * Exact::from_integer(m as i128);
+            // The largest divider that can still reach the lowest acceptable rate.
+            let start = ((to_f64(&base) / lowest).floor() as u64).min(d.saturating_sub(1));
+            let best = (1..=start)
+                .rev()
+                .take(DIVIDER_TRIES as usize)
+                .find(|&nd| usable(&(base / Exact::from_integer(nd as i128)), with_alias));
+            if let Some(nd) = best {
+                let rate = base / Exact::from_integer(nd as i128);
+                let sharing = rig.channels_under(clock).len().saturating_sub(1);
+                parts.push(format!(
+                    "divide `{}` by {nd} instead of {d} in clock `{}` to sample at {} ({})",
+                    source.value,
+                    c.def.name.value,
+                    format_hz(to_f64(&rate)),
+                    others(sharing)
+                ));
+            }
+        }
+        // 2. Another clock that already runs at a suitable rate (the lowest such).
+        let sibling = rig
+            .clocks
+            .iter()
+            .enumerate()
+            .filter(|(i, k)| *i != clock && k.rate.is_some_and(|r| usable(&r, with_alias)))
+            .min_by(|a, b| a.1.rate.cmp(&b.1.rate));
+        if let Some((_, k)) = sibling {
             parts.push(format!(
-                "divide `{}` by {nd} instead of {d} in clock `{}` to sample at {} ({})",
-                source.value,
-                c.def.name.value,
-                format_hz(to_f64(&rate)),
-                others(sharing)
+                "sample on clock `{}`, which already runs at {}",
+                k.def.name.value,
+                format_hz(to_f64(&k.rate.expect("filtered")))
             ));
         }
-    }
-    // 2. Another clock that already runs at a suitable rate (the lowest such).
-    let sibling = rig
-        .clocks
-        .iter()
-        .enumerate()
-        .filter(|(i, k)| *i != clock && k.rate.is_some_and(|r| good(&r)))
-        .min_by(|a, b| a.1.rate.cmp(&b.1.rate));
-    if let Some((_, k)) = sibling {
-        parts.push(format!(
-            "sample on clock `{}`, which already runs at {}",
-            k.def.name.value,
-            format_hz(to_f64(&k.rate.expect("filtered")))
-        ));
-    }
-    if parts.is_empty() && with_filter {
-        // 3. No setting of the clock tree works: a filter change that would.
-        let fs = to_f64(&chain.adc_rate());
-        return filter_help(
-            chain,
-            fs - band,
-            band,
-            required - (chain.attenuation_db(fs - band, 0) - own_filter_db(chain, fs - band)),
-        );
-    }
+        parts
+    };
+    let mut parts = suggest(true);
     if parts.is_empty() {
-        return None;
+        if let Some(t) = filter {
+            // 3. No setting of the clock tree works: a filter change that would.
+            let others_db =
+                chain.attenuation_db(t.frequency, 0) - own_filter_db(chain, t.frequency);
+            return filter_help(chain, t.frequency, band, t.needed_db - others_db);
+        }
+        // For the rate rules alone: a rate that passes them, the filter aside.
+        parts = suggest(false);
+        if parts.is_empty() {
+            return None;
+        }
+        let mut s = parts.join(", or ");
+        s.push_str("; the anti-alias filter must then also meet the required rejection");
+        return Some(s);
     }
-    let mut s = parts.remove(0);
-    for p in parts {
-        s.push_str(", or ");
-        s.push_str(&p);
-    }
-    let _ = ci;
-    Some(s)
+    Some(parts.join(", or "))
 }
 
 fn own_filter_db(chain: &Chain, f: f64) -> f64 {
@@ -231,8 +260,12 @@ pub fn stage_help(
 ) -> Option<String> {
     let ch = &chain.changes[stage];
     let fin = to_f64(&ch.fs_in?);
-    let best = (1..ch.factor)
+    // The largest factor that can still reach the lowest acceptable rate.
+    let lowest = (margin * band).max(2.0 * band);
+    let start = ((fin / lowest).floor() as u64).min(u64::from(ch.factor) - 1) as u32;
+    let best = (1..=start)
         .rev()
+        .take(DIVIDER_TRIES as usize)
         .find(|&nf| rate_is_good(chain, stage, fin / nf as f64, band, margin, required));
     let mut parts = Vec::new();
     match best {

@@ -515,7 +515,10 @@ fn check_unused_clock(rig: &Rig, out: &mut Vec<Finding>) {
         return;
     }
     for (i, c) in rig.clocks.iter().enumerate() {
-        if c.def.name.span.file != rig.file || c.in_cycle {
+        if c.def.name.span.file != rig.file
+            || c.in_cycle
+            || matches!(c.def.def, crate::model::ClockDef::Invalid)
+        {
             continue;
         }
         if rig

@@ -195,20 +195,20 @@ pub fn rate_channels(rig: &Rig) -> impl Iterator<Item = (usize, Chain<'_>, f64)>
         })
 }
 
-/// Help for a rate rule at rate change `rc`.
+/// Help for a rate rule at rate change `rc`; `filter` is what a filter change must reach
+/// when no rate works (alias rejection), None for the rate rules alone.
 pub fn help_for(
     chain: &Chain,
-    ci: usize,
     rc: &RateChange,
     band: f64,
-    with_filter: bool,
+    filter: Option<fix::FilterTarget>,
 ) -> Option<String> {
     let margin = chain.rig.thresholds.margin;
     let required = chain.channel.rejection.0;
     if rc.stage == 0 {
-        fix::adc_help(chain, ci, band, margin, required, with_filter)
+        fix::adc_help(chain, band, margin, required, filter)
     } else {
-        fix::stage_help(chain, rc.stage, band, margin, required, with_filter)
+        fix::stage_help(chain, rc.stage, band, margin, required, filter.is_some())
     }
 }
 
@@ -225,7 +225,7 @@ fn band_label(ch: &RChannel, band: f64) -> Label {
 }
 
 fn check_nyquist(rig: &Rig, out: &mut Vec<Finding>) {
-    for (ci, chain, band) in rate_channels(rig) {
+    for (_, chain, band) in rate_channels(rig) {
         let ch = chain.channel;
         let Some(rc) = chain.changes.iter().find(|rc| rc.fs_hz() <= 2.0 * band) else {
             continue;
@@ -247,7 +247,7 @@ fn check_nyquist(rig: &Rig, out: &mut Vec<Finding>) {
         f.secondary.push(band_label(ch, band));
         f.secondary.extend(rate_labels(rig, ch, rc));
         f = f
-            .with_help_opt(help_for(&chain, ci, rc, band, false).or_else(|| {
+            .with_help_opt(help_for(&chain, rc, band, None).or_else(|| {
                 Some(format!(
                     "sample above {} (twice the band)",
                     format_hz(2.0 * band)
@@ -263,7 +263,7 @@ fn check_nyquist(rig: &Rig, out: &mut Vec<Finding>) {
 
 fn check_margin(rig: &Rig, out: &mut Vec<Finding>) {
     let margin = rig.thresholds.margin;
-    for (ci, chain, band) in rate_channels(rig) {
+    for (_, chain, band) in rate_channels(rig) {
         let ch = chain.channel;
         // Only where nyquist holds at every earlier rate change: no cascades.
         for rc in &chain.changes {
@@ -301,7 +301,7 @@ fn check_margin(rig: &Rig, out: &mut Vec<Finding>) {
             f.secondary.extend(rate_labels(rig, ch, rc));
             f = f
                 .with_help_opt(
-                    help_for(&chain, ci, rc, band, false).or_else(|| {
+                    help_for(&chain, rc, band, None).or_else(|| {
                         Some(format!("sample at {} or more", format_hz(margin * band)))
                     }),
                 )

@@ -193,6 +193,16 @@ fn clean_message(raw: &str) -> String {
         }
     }
     let msg = msg.split(", set DuplicateKeyPolicy").next().unwrap_or(msg);
+    let msg = match msg.rfind(" at line ") {
+        Some(i)
+            if msg[i + 9..]
+                .split(", column ")
+                .all(|p| !p.is_empty() && p.trim().bytes().all(|b| b.is_ascii_digit())) =>
+        {
+            &msg[..i]
+        }
+        _ => msg,
+    };
     let msg = msg.trim_end_matches('.');
     if msg.starts_with("budget breached") {
         return format!("the document is too large or too deeply nested to read safely ({msg})");
