@@ -104,6 +104,9 @@ struct Job {
     display: String,
     root: PathBuf,
     settings: Arc<Settings>,
+    /// A catalog named on the command line that no rig under its campaign root includes
+    /// is checked on its own (syntax, schema, names, clocks).
+    role: Role,
 }
 
 /// Lint the given paths (files and directories).
@@ -258,6 +261,7 @@ fn discover(paths: &[PathBuf], opts: &Options) -> Result<Vec<Job>, Fatal> {
                     display: display(path),
                     root,
                     settings: s,
+                    role: Role::Rig,
                 });
             }
         } else {
@@ -266,7 +270,53 @@ fn discover(paths: &[PathBuf], opts: &Options) -> Result<Vec<Job>, Fatal> {
                 .filter(|d| !d.as_os_str().is_empty())
                 .unwrap_or(Path::new("."));
             let (root, s) = settings_for(dir, dir)?;
-            if excluded(&s, &root, p) || !seen.insert(absolute(p)) {
+            if excluded(&s, &root, p) {
+                continue;
+            }
+            if is_catalog_file(p) {
+                // Pre-commit passes changed files: a changed catalog means linting the
+                // rigs that include it. Without a settings file, search the working
+                // directory (where pre-commit runs) when the catalog lies under it.
+                let search = if s.path.is_some() {
+                    root.clone()
+                } else {
+                    let cwd = absolute(Path::new("."));
+                    if absolute(p).starts_with(&cwd) {
+                        cwd
+                    } else {
+                        root.clone()
+                    }
+                };
+                let deps = dependents(&search, &absolute(p));
+                if deps.is_empty() {
+                    if seen.insert(absolute(p)) {
+                        jobs.push(Job {
+                            path: p.clone(),
+                            display: display(p),
+                            root,
+                            settings: s,
+                            role: Role::Catalog,
+                        });
+                    }
+                    continue;
+                }
+                for dep in deps {
+                    let ddir = dep.parent().unwrap_or(Path::new("."));
+                    let (droot, ds) = settings_for(ddir, &search)?;
+                    if excluded(&ds, &droot, &dep) || !seen.insert(absolute(&dep)) {
+                        continue;
+                    }
+                    jobs.push(Job {
+                        display: display(&relative_to_cwd(&dep)),
+                        path: dep,
+                        root: droot,
+                        settings: ds,
+                        role: Role::Rig,
+                    });
+                }
+                continue;
+            }
+            if !seen.insert(absolute(p)) {
                 continue;
             }
             jobs.push(Job {
@@ -274,10 +324,90 @@ fn discover(paths: &[PathBuf], opts: &Options) -> Result<Vec<Job>, Fatal> {
                 display: display(p),
                 root,
                 settings: s,
+                role: Role::Rig,
             });
         }
     }
     Ok(jobs)
+}
+
+/// Whether a file that is not named like a rig file is a catalog: a top-level
+/// `catalog:` key (block style, as catalogs are written).
+fn is_catalog_file(p: &Path) -> bool {
+    let name = p.file_name().and_then(|n| n.to_str()).unwrap_or("");
+    if name.ends_with(".rig.yaml") || name.ends_with(".rig.yml") {
+        return false;
+    }
+    std::fs::read_to_string(p).is_ok_and(|t| t.lines().any(|l| l.starts_with("catalog:")))
+}
+
+/// The rig files under `root` that include `catalog` (directly or through other
+/// catalogs), in path order.
+fn dependents(root: &Path, catalog: &Path) -> Vec<PathBuf> {
+    let target = canonical_or_self(catalog);
+    let mut includes_of: HashMap<PathBuf, Vec<PathBuf>> = HashMap::new();
+    let mut out = Vec::new();
+    let walker = ignore::WalkBuilder::new(root)
+        .require_git(false)
+        .sort_by_file_name(|a, b| a.cmp(b))
+        .build();
+    for entry in walker.flatten() {
+        let path = entry.path();
+        let name = path.file_name().and_then(|n| n.to_str()).unwrap_or("");
+        if !(name.ends_with(".rig.yaml") || name.ends_with(".rig.yml")) {
+            continue;
+        }
+        // Depth-first over include lists, each file once.
+        let mut stack = vec![canonical_or_self(path)];
+        let mut visited = std::collections::HashSet::new();
+        let mut found = false;
+        while let Some(f) = stack.pop() {
+            if !visited.insert(f.clone()) {
+                continue;
+            }
+            if f == target {
+                found = true;
+                break;
+            }
+            let incs = includes_of
+                .entry(f.clone())
+                .or_insert_with(|| include_list(&f));
+            stack.extend(incs.iter().cloned());
+        }
+        if found {
+            out.push(path.to_path_buf());
+        }
+    }
+    out
+}
+
+/// The canonical paths a file's `include` list names (unreadable files: none).
+fn include_list(path: &Path) -> Vec<PathBuf> {
+    let Ok(text) = std::fs::read_to_string(path) else {
+        return Vec::new();
+    };
+    let lines = LineIndex::new(&text);
+    let Ok(root) = yaml::parse(0, &text, &lines) else {
+        return Vec::new();
+    };
+    let dir = path.parent().unwrap_or(Path::new(""));
+    root.get("include")
+        .and_then(|(_, v)| v.as_seq())
+        .map(|items| {
+            items
+                .iter()
+                .filter_map(|n| n.as_str())
+                .filter_map(|s| std::fs::canonicalize(dir.join(s)).ok())
+                .collect()
+        })
+        .unwrap_or_default()
+}
+
+/// A path relative to the working directory when it lies below it.
+fn relative_to_cwd(p: &Path) -> PathBuf {
+    let cwd = absolute(Path::new("."));
+    let abs = absolute(p);
+    abs.strip_prefix(&cwd).map(Path::to_path_buf).unwrap_or(abs)
 }
 
 fn excluded(s: &Settings, root: &Path, path: &Path) -> bool {
@@ -433,12 +563,19 @@ fn load_text(file: FileId, text: &str, lines: &LineIndex, role: Role) -> Loaded 
 type RigResult = (Loaded, Vec<Finding>, usize, Option<Rig>, Arc<Settings>);
 
 fn lint_rig(ctx: &Ctx, job: &Job, keep: bool) -> Result<RigResult, Fatal> {
-    let mut loaded = load(ctx, &job.path, job.display.clone(), Role::Rig)
+    let mut loaded = load(ctx, &job.path, job.display.clone(), job.role)
         .map_err(|why| Fatal::Unreadable(job.path.clone(), why))?;
     let mut out = Vec::new();
     let Some(doc) = loaded.doc.take() else {
         return Ok((loaded, out, 0, None, job.settings.clone()));
     };
+    if job.role == Role::Catalog {
+        // A catalog on its own: names and the clock graph, no physics.
+        let (_, resolve_findings) = resolve::resolve(&[&doc], &job.settings.thresholds);
+        out.extend(resolve_findings);
+        loaded.doc = Some(doc);
+        return Ok((loaded, out, 0, None, job.settings.clone()));
+    }
     let channels = doc.channels.len();
     // Includes, depth first, each catalog once per rig.
     let mut catalogs: Vec<Arc<Loaded>> = Vec::new();

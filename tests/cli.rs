@@ -49,8 +49,17 @@ fn audio_cd_rate_is_above_nyquist_but_below_the_margin() {
     assert_eq!(f["values"]["margin"], 2.5);
     assert_eq!(f["values"]["stage"], 0);
     assert_eq!(code, 0, "a warning does not fail by default");
-    let keys: Vec<&str> = f["values"].as_object().unwrap().keys().map(String::as_str).collect();
-    assert_eq!(keys, ["rate_hz", "band_hz", "ratio", "margin", "stage"], "SPEC §7 order");
+    let keys: Vec<&str> = f["values"]
+        .as_object()
+        .unwrap()
+        .keys()
+        .map(String::as_str)
+        .collect();
+    assert_eq!(
+        keys,
+        ["rate_hz", "band_hz", "ratio", "margin", "stage"],
+        "SPEC §7 order"
+    );
 }
 
 #[test]
@@ -58,7 +67,13 @@ fn fail_on_sets_the_exit_status() {
     let dir = tempfile::tempdir().unwrap();
     write(dir.path(), "studio.rig.yaml", AUDIO_44K1);
     let status = |level: &str| {
-        run_in(dir.path(), &["check", "--fail-on", level, "studio.rig.yaml"]).status.code().unwrap()
+        run_in(
+            dir.path(),
+            &["check", "--fail-on", level, "studio.rig.yaml"],
+        )
+        .status
+        .code()
+        .unwrap()
     };
     assert_eq!(status("error"), 0);
     assert_eq!(status("warning"), 1);
@@ -79,13 +94,23 @@ fn exact_clock_division_and_the_worked_butterworth() {
     );
     let (report, code) = check_json(dir.path(), &["w.rig.yaml"]);
     assert_eq!(code, 1);
-    let alias = report["findings"].as_array().unwrap().iter().find(|f| f["rule"] == "alias-rejection").unwrap();
+    let alias = report["findings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|f| f["rule"] == "alias-rejection")
+        .unwrap();
     assert_eq!(alias["values"]["rate_hz"], 48000.0);
     assert_eq!(alias["values"]["fold_from_hz"], 28000.0);
     let a = alias["values"]["attenuation_db"].as_f64().unwrap();
     assert!((a - 11.97).abs() < 0.01, "{a}");
     assert_eq!(alias["values"]["required_db"], 40.0);
-    let margin = report["findings"].as_array().unwrap().iter().find(|f| f["rule"] == "sampling-margin").unwrap();
+    let margin = report["findings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|f| f["rule"] == "sampling-margin")
+        .unwrap();
     assert_eq!(margin["values"]["ratio"], 2.4);
 }
 
@@ -112,14 +137,22 @@ fn a_missing_path_exits_2_and_says_which() {
     let out = run_in(dir.path(), &["check", "no-such-dir"]);
     assert_eq!(out.status.code(), Some(2));
     let err = String::from_utf8_lossy(&out.stderr);
-    assert!(err.contains("no-such-dir: no such file or directory"), "{err}");
+    assert!(
+        err.contains("no-such-dir: no such file or directory"),
+        "{err}"
+    );
     assert!(out.stdout.is_empty());
 }
 
 #[test]
 fn bad_arguments_exit_2() {
     let dir = tempfile::tempdir().unwrap();
-    assert_eq!(run_in(dir.path(), &["check", "--format", "xml"]).status.code(), Some(2));
+    assert_eq!(
+        run_in(dir.path(), &["check", "--format", "xml"])
+            .status
+            .code(),
+        Some(2)
+    );
     assert_eq!(run_in(dir.path(), &["frobnicate"]).status.code(), Some(2));
 }
 
@@ -134,7 +167,12 @@ fn directories_are_walked_for_rig_files_only_and_output_is_sorted() {
     let (report, _) = check_json(dir.path(), &["."]);
     assert_eq!(report["files"], 2, "{report:#}");
     assert_eq!(report["channels"], 2);
-    let files: Vec<&str> = report["findings"].as_array().unwrap().iter().map(|f| f["file"].as_str().unwrap()).collect();
+    let files: Vec<&str> = report["findings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|f| f["file"].as_str().unwrap())
+        .collect();
     assert_eq!(files, ["a/first.rig.yaml", "b/second.rig.yml"]);
     // A file named on the command line is linted whatever its name.
     let (report, _) = check_json(dir.path(), &["a/notes.yaml"]);
@@ -149,14 +187,35 @@ fn json_report_has_the_documented_shape() {
     assert_eq!(report["version"], 1);
     assert_eq!(report["files"], 1);
     assert_eq!(report["channels"], 1);
-    assert_eq!(report["summary"], serde_json::json!({ "error": 0, "warning": 1, "note": 0 }));
+    assert_eq!(
+        report["summary"],
+        serde_json::json!({ "error": 0, "warning": 1, "note": 0 })
+    );
     let f = only(&report);
-    for key in ["rule", "severity", "file", "line", "column", "end_line", "end_column", "channel", "message", "help", "values"] {
+    for key in [
+        "rule",
+        "severity",
+        "file",
+        "line",
+        "column",
+        "end_line",
+        "end_column",
+        "channel",
+        "message",
+        "help",
+        "values",
+    ] {
         assert!(f.get(key).is_some(), "missing {key}");
     }
     // The primary span is the channel's `clock: cd` value, line 7, columns 12–14.
-    assert_eq!((f["line"].as_u64(), f["column"].as_u64()), (Some(7), Some(12)));
-    assert_eq!((f["end_line"].as_u64(), f["end_column"].as_u64()), (Some(7), Some(14)));
+    assert_eq!(
+        (f["line"].as_u64(), f["column"].as_u64()),
+        (Some(7), Some(12))
+    );
+    assert_eq!(
+        (f["end_line"].as_u64(), f["end_column"].as_u64()),
+        (Some(7), Some(14))
+    );
     assert_eq!(f["file"], "studio.rig.yaml", "relative paths stay relative");
 }
 
@@ -173,30 +232,55 @@ fn human_output_ends_with_one_summary_line_and_honours_no_color() {
     let text = String::from_utf8(out.stdout).unwrap();
     assert!(!text.contains('\u{1b}'), "no escape codes with NO_COLOR");
     let last = text.lines().last().unwrap();
-    assert!(last.starts_with("0 errors, 1 warning, 0 notes in 1 file, 1 channel ("), "{last}");
+    assert!(
+        last.starts_with("0 errors, 1 warning, 0 notes in 1 file, 1 channel ("),
+        "{last}"
+    );
     assert!(text.contains("studio.rig.yaml:7:12"), "{text}");
-    let colored = run_in(dir.path(), &["check", "--color", "always", "studio.rig.yaml"]);
+    let colored = run_in(
+        dir.path(),
+        &["check", "--color", "always", "studio.rig.yaml"],
+    );
     assert!(String::from_utf8_lossy(&colored.stdout).contains('\u{1b}'));
 }
 
 #[test]
 fn settings_levels_thresholds_and_rig_defaults_take_precedence_in_order() {
     let dir = tempfile::tempdir().unwrap();
-    write(dir.path(), "foldcheck.toml", "[rules]\nsampling-margin = \"error\"\n[thresholds]\nmargin = 2.1\n");
+    write(
+        dir.path(),
+        "foldcheck.toml",
+        "[rules]\nsampling-margin = \"error\"\n[thresholds]\nmargin = 2.1\n",
+    );
     write(dir.path(), "studio.rig.yaml", AUDIO_44K1);
     // margin 2.1 from settings: 2.205 passes.
     let (report, code) = check_json(dir.path(), &["."]);
-    assert_eq!(report["findings"].as_array().unwrap().len(), 0, "{report:#}");
+    assert_eq!(
+        report["findings"].as_array().unwrap().len(),
+        0,
+        "{report:#}"
+    );
     assert_eq!(code, 0);
     // The rig's own margin (3) beats the settings; the settings make it an error.
-    write(dir.path(), "studio.rig.yaml", &AUDIO_44K1.replace("rig: studio\n", "rig: studio\ndefaults: { margin: 3 }\n"));
+    write(
+        dir.path(),
+        "studio.rig.yaml",
+        &AUDIO_44K1.replace("rig: studio\n", "rig: studio\ndefaults: { margin: 3 }\n"),
+    );
     let (report, code) = check_json(dir.path(), &["."]);
     let f = only(&report);
-    assert_eq!((f["rule"].as_str(), f["severity"].as_str()), (Some("sampling-margin"), Some("error")));
+    assert_eq!(
+        (f["rule"].as_str(), f["severity"].as_str()),
+        (Some("sampling-margin"), Some("error"))
+    );
     assert_eq!(f["values"]["margin"], 3.0);
     assert_eq!(code, 1);
     // A rule turned off disappears.
-    write(dir.path(), "foldcheck.toml", "[rules]\nsampling-margin = \"off\"\n");
+    write(
+        dir.path(),
+        "foldcheck.toml",
+        "[rules]\nsampling-margin = \"off\"\n",
+    );
     let (report, _) = check_json(dir.path(), &["."]);
     assert_eq!(report["findings"].as_array().unwrap().len(), 0);
 }
@@ -204,8 +288,16 @@ fn settings_levels_thresholds_and_rig_defaults_take_precedence_in_order() {
 #[test]
 fn nearest_settings_file_wins_and_exclusions_apply() {
     let dir = tempfile::tempdir().unwrap();
-    write(dir.path(), "foldcheck.toml", "exclude = [\"archive/**\"]\n[rules]\nsampling-margin = \"off\"\n");
-    write(dir.path(), "bay/foldcheck.toml", "[rules]\nsampling-margin = \"note\"\n");
+    write(
+        dir.path(),
+        "foldcheck.toml",
+        "exclude = [\"archive/**\"]\n[rules]\nsampling-margin = \"off\"\n",
+    );
+    write(
+        dir.path(),
+        "bay/foldcheck.toml",
+        "[rules]\nsampling-margin = \"note\"\n",
+    );
     write(dir.path(), "bay/studio.rig.yaml", AUDIO_44K1);
     write(dir.path(), "top.rig.yaml", AUDIO_44K1);
     write(dir.path(), "archive/old.rig.yaml", "{{ broken");
@@ -224,7 +316,10 @@ fn an_invalid_settings_file_is_fatal_with_its_span() {
     let out = run_in(dir.path(), &["check", "."]);
     assert_eq!(out.status.code(), Some(2));
     let err = String::from_utf8_lossy(&out.stderr);
-    assert!(err.contains("unknown rule `nyquits`; did you mean `nyquist`?"), "{err}");
+    assert!(
+        err.contains("unknown rule `nyquits`; did you mean `nyquist`?"),
+        "{err}"
+    );
     assert!(err.contains("foldcheck.toml:2:11"), "{err}");
     // --settings names a file explicitly; a missing one is fatal too.
     let out = run_in(dir.path(), &["check", "--settings", "nope.toml", "."]);
@@ -235,7 +330,11 @@ fn an_invalid_settings_file_is_fatal_with_its_span() {
 fn clean_realistic_rigs_stay_silent() {
     let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests");
     let (report, code) = check_json(&root, &["clean"]);
-    assert_eq!(report["findings"].as_array().unwrap().len(), 0, "{report:#}");
+    assert_eq!(
+        report["findings"].as_array().unwrap().len(),
+        0,
+        "{report:#}"
+    );
     assert_eq!(code, 0);
     assert!(report["channels"].as_u64().unwrap() >= 10);
 }
@@ -250,7 +349,12 @@ fn the_example_campaign_shows_each_documented_mistake() {
         .as_array()
         .unwrap()
         .iter()
-        .map(|f| (f["rule"].as_str().unwrap().to_string(), f["channel"].as_str().unwrap_or("").to_string()))
+        .map(|f| {
+            (
+                f["rule"].as_str().unwrap().to_string(),
+                f["channel"].as_str().unwrap_or("").to_string(),
+            )
+        })
         .collect();
     for (rule, channel) in [
         ("alias-rejection", "root-bolt-07"),
@@ -264,7 +368,10 @@ fn the_example_campaign_shows_each_documented_mistake() {
         ("nyquist", "hub-acc"),
         ("module-rate", "arm-c-force"),
     ] {
-        assert!(found.contains(&(rule.to_string(), channel.to_string())), "missing {rule} on {channel}: {found:?}");
+        assert!(
+            found.contains(&(rule.to_string(), channel.to_string())),
+            "missing {rule} on {channel}: {found:?}"
+        );
     }
     for rule in ["group-phase", "group-clock", "unused-clock", "storage"] {
         assert!(found.iter().any(|(r, _)| r == rule), "missing {rule}");
@@ -280,13 +387,19 @@ fn rules_and_schema_commands() {
     assert_eq!(text.lines().count(), foldcheck::rules::RULES.len());
     let out = run_in(dir.path(), &["rules", "nyquist"]);
     let text = String::from_utf8(out.stdout).unwrap();
-    assert!(text.contains("Shannon") && text.contains("Raises it:"), "{text}");
+    assert!(
+        text.contains("Shannon") && text.contains("Raises it:"),
+        "{text}"
+    );
     let out = run_in(dir.path(), &["rules", "nyqist"]);
     assert_eq!(out.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&out.stderr).contains("did you mean `nyquist`"));
     let out = run_in(dir.path(), &["schema"]);
     let schema: Value = serde_json::from_slice(&out.stdout).unwrap();
-    assert_eq!(schema["$schema"], "https://json-schema.org/draft/2020-12/schema");
+    assert_eq!(
+        schema["$schema"],
+        "https://json-schema.org/draft/2020-12/schema"
+    );
     let out = run_in(dir.path(), &["schema", "--settings"]);
     let schema: Value = serde_json::from_slice(&out.stdout).unwrap();
     assert!(schema["properties"]["rules"].is_object());
@@ -298,13 +411,21 @@ fn every_example_and_clean_file_is_valid_under_the_schema() {
     let validator = jsonschema::draft202012::new(&schema).unwrap();
     let root = Path::new(env!("CARGO_MANIFEST_DIR"));
     let mut n = 0;
-    for dir in ["examples", "examples/catalog", "tests/clean", "tests/clean/catalog"] {
+    for dir in [
+        "examples",
+        "examples/catalog",
+        "tests/clean",
+        "tests/clean/catalog",
+    ] {
         for entry in fs::read_dir(root.join(dir)).unwrap() {
             let p = entry.unwrap().path();
             if p.extension().is_some_and(|e| e == "yaml") {
                 let text = fs::read_to_string(&p).unwrap();
                 let value: Value = serde_saphyr::from_str(&text).unwrap();
-                let errors: Vec<String> = validator.iter_errors(&value).map(|e| e.to_string()).collect();
+                let errors: Vec<String> = validator
+                    .iter_errors(&value)
+                    .map(|e| e.to_string())
+                    .collect();
                 assert!(errors.is_empty(), "{}: {errors:?}", p.display());
                 n += 1;
             }
