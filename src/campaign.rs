@@ -18,6 +18,9 @@ use std::sync::{Arc, Mutex, OnceLock};
 /// The default largest file foldcheck reads (64 MiB).
 pub const DEFAULT_MAX_FILE_BYTES: u64 = 64 * 1024 * 1024;
 
+/// Progress is shown for runs of at least this many files.
+const PROGRESS_FROM: usize = 50;
+
 /// How to run.
 #[derive(Clone, Debug)]
 pub struct Options {
@@ -27,6 +30,8 @@ pub struct Options {
     pub max_file_bytes: u64,
     /// Keep each resolved rig in the outcome (for `diff` and `inspect`).
     pub keep_rigs: bool,
+    /// Show progress on stderr (set it only when stderr is a terminal).
+    pub progress: bool,
 }
 
 impl Default for Options {
@@ -35,6 +40,7 @@ impl Default for Options {
             settings: None,
             max_file_bytes: DEFAULT_MAX_FILE_BYTES,
             keep_rigs: false,
+            progress: false,
         }
     }
 }
@@ -117,10 +123,23 @@ pub fn run(paths: &[PathBuf], opts: &Options) -> Result<Outcome, Fatal> {
         catalogs: Mutex::new(HashMap::new()),
         max_file_bytes: opts.max_file_bytes,
     };
+    let done = std::sync::atomic::AtomicUsize::new(0);
+    let total = jobs.len();
+    let show = opts.progress && total >= PROGRESS_FROM;
     let results: Vec<Result<RigResult, Fatal>> = jobs
         .par_iter()
-        .map(|job| lint_rig(&ctx, job, opts.keep_rigs))
+        .map(|job| {
+            let r = lint_rig(&ctx, job, opts.keep_rigs);
+            let n = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
+            if show && (n % 25 == 0 || n == total) {
+                eprint!("\rfoldcheck: {n}/{total} files");
+            }
+            r
+        })
         .collect();
+    if show {
+        eprint!("\r{}\r", " ".repeat(40));
+    }
 
     let mut findings = Vec::new();
     let mut suppressions: Vec<Suppression> = Vec::new();

@@ -31,6 +31,7 @@ pub fn run(command: Command) -> Outcome {
                 settings,
                 max_file_bytes: max_file_size.unwrap_or(campaign::DEFAULT_MAX_FILE_BYTES),
                 keep_rigs: false,
+                progress: std::io::stderr().is_terminal(),
             };
             let out = campaign::run(&paths, &opts).map_err(|e| fatal(&e))?;
             let text = match format {

@@ -433,3 +433,53 @@ fn every_example_and_clean_file_is_valid_under_the_schema() {
     }
     assert!(n >= 8, "{n} files checked");
 }
+
+#[test]
+fn budget_arithmetic_by_hand() {
+    // throughput: 3 channels × 25 600 Hz × 24 bit / 8 = 230 400 B/s on the card, limit
+    // 200 kB/s; plus one channel at 51 200 Hz × 32 bit / 8 = 204 800 B/s elsewhere: the
+    // logger sees 435 200 B/s against 400 kB/s.
+    // storage: 435 200 B/s × 2 h (7 200 s) = 3 133 440 000 B against 3 GB.
+    let dir = tempfile::tempdir().unwrap();
+    let filt = "filters: [{ response: butterworth, order: 8, cutoff: 6.5 kHz }]";
+    write(
+        dir.path(),
+        "budget.rig.yaml",
+        &format!(
+            "format: 1\nrig: budget\nclocks:\n  - {{ name: f25k6, frequency: 25.6 kHz }}\n  - {{ name: f51k2, frequency: 51.2 kHz }}\nmodules:\n  - {{ name: bridge, adc-bits: 24, alias-rejection: 60 dB, throughput: 200 kB/s }}\nchannels:\n  - {{ name: a, clock: f25k6, module: bridge, band: 5 kHz, {filt} }}\n  - {{ name: b, clock: f25k6, module: bridge, band: 5 kHz, {filt} }}\n  - {{ name: c, clock: f25k6, module: bridge, band: 5 kHz, {filt} }}\n  - {{ name: d, clock: f51k2, band: 10 kHz, sample-bits: 32, filters: [{{ response: butterworth, order: 8, cutoff: 13 kHz }}] }}\nlogger: {{ throughput: 400 kB/s, storage: 3 GB, duration: 2 h }}\n"
+        ),
+    );
+    let (report, code) = check_json(dir.path(), &["budget.rig.yaml"]);
+    assert_eq!(code, 1);
+    let values: Vec<(&str, f64, f64)> = report["findings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|f| {
+            let v = &f["values"];
+            let (a, b) = if f["rule"] == "storage" {
+                ("bytes", "limit_bytes")
+            } else {
+                ("data_rate_bytes_per_s", "limit_bytes_per_s")
+            };
+            (
+                f["rule"].as_str().unwrap(),
+                v[a].as_f64().unwrap(),
+                v[b].as_f64().unwrap(),
+            )
+        })
+        .collect();
+    assert!(
+        values.contains(&("throughput", 230_400.0, 200_000.0)),
+        "{values:?}"
+    );
+    assert!(
+        values.contains(&("throughput", 435_200.0, 400_000.0)),
+        "{values:?}"
+    );
+    assert!(
+        values.contains(&("storage", 3_133_440_000.0, 3_000_000_000.0)),
+        "{values:?}"
+    );
+    assert_eq!(values.len(), 3, "{report:#}");
+}

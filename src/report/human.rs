@@ -138,7 +138,8 @@ pub fn render_finding(sources: &Sources, f: &Finding, color: Color) -> String {
     };
     let handler = GraphicalReportHandler::new_themed(theme)
         .with_width(100)
-        .with_context_lines(1);
+        .with_context_lines(1)
+        .with_show_related_as_nested(true);
     let mut out = String::new();
     let report = build(sources, f);
     if handler.render_report(&mut out, &report).is_err() {
