@@ -131,7 +131,7 @@ pub fn run(paths: &[PathBuf], opts: &Options) -> Result<Outcome, Fatal> {
         .map(|job| {
             let r = lint_rig(&ctx, job, opts.keep_rigs);
             let n = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
-            if show && (n % 25 == 0 || n == total) {
+            if show && (n.is_multiple_of(25) || n == total) {
                 eprint!("\rfoldcheck: {n}/{total} files");
             }
             r
