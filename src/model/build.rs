@@ -121,6 +121,10 @@ impl<'a> Builder<'a> {
             NodeKind::Int(i) if i >= min as i128 && i <= max as i128 => {
                 Some(Sp::new(i as u64, node.span))
             }
+            // JSON Schema's "integer" admits 4.0: so do we.
+            NodeKind::Float(f) if f.fract() == 0.0 && f >= min as f64 && f <= max as f64 => {
+                Some(Sp::new(f as u64, node.span))
+            }
             _ => {
                 self.broken = true;
                 None

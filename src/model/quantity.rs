@@ -184,6 +184,41 @@ pub fn parse_decimal(s: &str) -> Option<Exact> {
     }
 }
 
+/// The length of the decimal number at the start of `s` (sign, digits, fraction,
+/// exponent), by syntax alone: 0 when it does not start with one.
+fn number_prefix_len(s: &str) -> usize {
+    let b = s.as_bytes();
+    let mut i = 0;
+    if matches!(b.first(), Some(b'+' | b'-')) {
+        i = 1;
+    }
+    let digits = |mut j: usize| {
+        while j < b.len() && b[j].is_ascii_digit() {
+            j += 1;
+        }
+        j
+    };
+    let int_end = digits(i);
+    let mut end = int_end;
+    if b.get(end) == Some(&b'.') {
+        end = digits(end + 1);
+    }
+    if end == i || (end == i + 1 && b[i] == b'.') {
+        return 0; // no digits at all
+    }
+    if matches!(b.get(end), Some(b'e' | b'E')) {
+        let mut j = end + 1;
+        if matches!(b.get(j), Some(b'+' | b'-')) {
+            j += 1;
+        }
+        let k = digits(j);
+        if k > j {
+            end = k;
+        }
+    }
+    end
+}
+
 /// Parse `text` as a quantity of `kind`. Returns the exact value in the base unit.
 /// Range is not checked here (see [`check_positive`]).
 pub fn parse(text: &str, kind: Kind) -> Result<Exact, QuantityError> {
@@ -198,12 +233,8 @@ pub fn parse(text: &str, kind: Kind) -> Result<Exact, QuantityError> {
         ));
     }
     // Split into the number and the unit: the number is the longest prefix that parses.
-    let split = t
-        .char_indices()
-        .map(|(i, _)| i)
-        .chain(std::iter::once(t.len()))
-        .rfind(|&i| parse_decimal(&t[..i]).is_some());
-    let Some(split) = split else {
+    let split = number_prefix_len(t);
+    if split == 0 {
         return Err(QuantityError::new(
             format!(
                 "`{t}` is not a {}: it does not start with a number",
@@ -214,8 +245,10 @@ pub fn parse(text: &str, kind: Kind) -> Result<Exact, QuantityError> {
                 kind.example()
             )),
         ));
+    }
+    let Some(number) = parse_decimal(&t[..split]) else {
+        return Err(out_of_range(t, kind));
     };
-    let number = parse_decimal(&t[..split]).expect("prefix parsed");
     let unit = t[split..].trim();
     if unit.is_empty() {
         if kind.bare_allowed() {
@@ -393,7 +426,14 @@ mod tests {
             Exact::from_integer(259_200)
         );
         assert!(parse("fast", Kind::Frequency).is_err());
-        assert!(parse("1e400 Hz", Kind::Frequency).is_err());
+        let e = parse("1e400 Hz", Kind::Frequency).unwrap_err();
+        assert!(e.message.contains("out of the range"), "{}", e.message);
+        assert!(
+            parse("1e3kHz", Kind::Frequency).is_ok_and(|v| v == Exact::from_integer(1_000_000))
+        );
+        assert!(parse(".5 Hz", Kind::Frequency).is_ok_and(|v| v == Exact::new(1, 2)));
+        assert!(parse(". Hz", Kind::Frequency).is_err());
+        assert!(parse("2 e", Kind::Frequency).is_err());
     }
 
     #[test]

@@ -7,6 +7,7 @@ use crate::model::{Filter, Response};
 use crate::signal::analog::{Analog, AnalogKind};
 use crate::signal::{digital, table};
 use crate::source::Span;
+use num_traits::CheckedDiv;
 
 /// One rate change: the ADC (stage 0) or a decimation stage (k ≥ 1).
 #[derive(Clone, Debug)]
@@ -124,7 +125,8 @@ impl<'a> Chain<'a> {
         }];
         let mut fs = fs0;
         for (k, st) in channel.def.decimate.iter().enumerate() {
-            let next = fs / Exact::from_integer(st.factor.value.into());
+            // Overflow is reported by the resolver, which marks the channel.
+            let next = fs.checked_div(&Exact::from_integer(st.factor.value.into()))?;
             changes.push(RateChange {
                 stage: k + 1,
                 fs: next,

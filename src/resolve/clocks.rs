@@ -109,7 +109,7 @@ pub(super) fn resolve_clocks(
                             Severity::Error,
                             Label::new(defs[i].name.span, "rate out of range"),
                             format!(
-                                "the rate of clock `{}` is too large to compute exactly",
+                                "the rate of clock `{}` cannot be represented exactly: its fraction outgrows 128 bits",
                                 defs[i].name.value
                             ),
                         ));

@@ -171,6 +171,8 @@ pub struct Rig {
     pub disturbance_targets: Vec<Vec<usize>>,
     /// Logger limits.
     pub logger: Option<Logger>,
+    /// How many channels sample on each clock, directly or through derived clocks.
+    pub fanout: Vec<usize>,
 }
 
 impl Rig {
@@ -455,6 +457,25 @@ pub fn resolve(docs: &[&Document], settings: &ThresholdSettings) -> (Rig, Vec<Fi
             })
             .unwrap_or(32);
         let clock_ok = clock.is_some_and(|k| clocks[k].rate.is_some());
+        // The decimated rates must stay representable exactly.
+        let mut rate = clock.and_then(|k| clocks[k].rate);
+        let mut stages_ok = true;
+        for st in &c.decimate {
+            let Some(r) = rate else { break };
+            rate = num_traits::CheckedDiv::checked_div(
+                &r,
+                &Exact::from_integer(st.factor.value.into()),
+            );
+            if rate.is_none() {
+                stages_ok = false;
+                out.push(Finding::new(
+                    "quantity",
+                    Severity::Error,
+                    Label::new(st.factor.span, "rate out of range"),
+                    format!("the rate after this decimation stage of `{}` cannot be represented exactly: its fraction outgrows 128 bits", c.name.value),
+                ));
+            }
+        }
         channels.push(RChannel {
             def: c.clone(),
             clock,
@@ -465,7 +486,7 @@ pub fn resolve(docs: &[&Document], settings: &ThresholdSettings) -> (Rig, Vec<Fi
             filters_span,
             rejection,
             sample_bits,
-            ok: refs_ok && clock_ok && !c.broken,
+            ok: refs_ok && clock_ok && stages_ok && !c.broken,
         });
     }
 
@@ -505,7 +526,8 @@ pub fn resolve(docs: &[&Document], settings: &ThresholdSettings) -> (Rig, Vec<Fi
         disturbance_targets.push(targets);
     }
 
-    let rig = Rig {
+    let mut rig = Rig {
+        fanout: vec![0; clocks.len()],
         file: rig_doc.file,
         name: rig_doc.name.clone(),
         span: rig_doc.span,
@@ -521,6 +543,13 @@ pub fn resolve(docs: &[&Document], settings: &ThresholdSettings) -> (Rig, Vec<Fi
         disturbance_targets,
         logger: rig_doc.logger.clone(),
     };
+    for ci in 0..rig.channels.len() {
+        if let Some(k) = rig.channels[ci].clock {
+            for c in rig.clock_path(k) {
+                rig.fanout[c] += 1;
+            }
+        }
+    }
     (rig, out)
 }
 

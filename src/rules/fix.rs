@@ -122,16 +122,20 @@ pub fn adc_help(
         {
             let m = multiply.as_ref().map_or(1, |m| m.value);
             let d = divide.as_ref().map_or(1, |d| d.value);
-            let base = src_rate * Exact::from_integer(m as i128);
+            let Some(base) =
+                num_traits::CheckedMul::checked_mul(&src_rate, &Exact::from_integer(m as i128))
+            else {
+                return parts;
+            };
             // The largest divider that can still reach the lowest acceptable rate.
             let start = ((to_f64(&base) / lowest).floor() as u64).min(d.saturating_sub(1));
-            let best = (1..=start)
-                .rev()
-                .take(DIVIDER_TRIES as usize)
-                .find(|&nd| usable(&(base / Exact::from_integer(nd as i128)), with_alias));
+            let best = (1..=start).rev().take(DIVIDER_TRIES as usize).find(|&nd| {
+                num_traits::CheckedDiv::checked_div(&base, &Exact::from_integer(nd as i128))
+                    .is_some_and(|r| usable(&r, with_alias))
+            });
             if let Some(nd) = best {
-                let rate = base / Exact::from_integer(nd as i128);
-                let sharing = rig.channels_under(clock).len().saturating_sub(1);
+                let rate = base / Exact::from_integer(nd as i128); // checked just above
+                let sharing = rig.fanout[clock].saturating_sub(1);
                 parts.push(format!(
                     "divide `{}` by {nd} instead of {d} in clock `{}` to sample at {} ({})",
                     source.value,

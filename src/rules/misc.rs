@@ -521,11 +521,7 @@ fn check_unused_clock(rig: &Rig, out: &mut Vec<Finding>) {
         {
             continue;
         }
-        if rig
-            .channels
-            .iter()
-            .any(|ch| ch.clock.is_some_and(|k| rig.derives_from(k, i)))
-        {
+        if rig.fanout[i] > 0 {
             continue;
         }
         out.push(
