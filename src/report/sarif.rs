@@ -1,9 +1,285 @@
-//! SARIF 2.1.0 output (being written).
+//! SARIF 2.1.0 output (OASIS Static Analysis Results Interchange Format).
+//!
+//! One log with one run. The run's `tool.driver.rules` lists every rule of
+//! [`RULES`] in registry order, so a result's `ruleIndex` is the rule's position there.
+//! Choices where SARIF leaves room:
+//!
+//! - `run.columnKind` is `unicodeCodePoints`: columns count characters, exactly as in the
+//!   JSON output (SARIF's default would be UTF-16 code units). Regions use the same
+//!   1-based `startLine`/`startColumn`/`endLine`/`endColumn` as JSON's `line`, `column`,
+//!   `end_line`, `end_column`; `endColumn` is one past the last character, as SARIF
+//!   defines it.
+//! - `artifactLocation.uri` is the file's display path, percent-encoded as a URI
+//!   reference: a relative path stays relative (to the directory foldcheck ran in; no
+//!   `uriBaseId` is set), an absolute one becomes a `file:` URI.
+//! - `message.text` is the finding's message; when the finding has a help line it
+//!   follows as a second sentence (`"<message>. <help>."`). The primary label's text is
+//!   `locations[0].message`, each secondary label a `relatedLocations` entry with
+//!   `id` 0, 1, … in label order.
+//! - A suppressed finding is listed with `suppressions: [{kind: "inSource",
+//!   justification: <reason>}]`.
+//! - `properties` holds `channel` and the machine-readable `values` (SPEC §5) when
+//!   present.
+//! - A rule's `fullDescription` is its explanation with the paragraphs unwrapped; its
+//!   `help` carries the full text of `foldcheck rules RULE` (plain and Markdown), with
+//!   the failing and passing examples.
 
-use crate::finding::Finding;
+use crate::finding::{Finding, Label, Severity};
+use crate::rules::{RULES, Rule, describe};
 use crate::source::Sources;
+use serde_json::{Map, Value, json};
 
-/// Render findings as SARIF 2.1.0.
-pub fn render(_sources: &Sources, _findings: &[Finding]) -> String {
-    String::from("{}\n")
+/// The SARIF version written.
+pub const SARIF_VERSION: &str = "2.1.0";
+
+/// The `$schema` written: the `$id` of the OASIS SARIF 2.1.0 schema.
+pub const SARIF_SCHEMA: &str = "https://raw.githubusercontent.com/oasis-tcs/sarif-spec/master/Schemata/sarif-schema-2.1.0.json";
+
+/// Render findings as a SARIF 2.1.0 log with one run.
+pub fn render(sources: &Sources, findings: &[Finding]) -> String {
+    let rules: Vec<Value> = RULES.iter().map(|r| rule(r)).collect();
+    let results: Vec<Value> = findings.iter().map(|f| result(sources, f)).collect();
+    let v = json!({
+        "$schema": SARIF_SCHEMA,
+        "version": SARIF_VERSION,
+        "runs": [{
+            "tool": {
+                "driver": {
+                    "name": "foldcheck",
+                    "version": env!("CARGO_PKG_VERSION"),
+                    "rules": rules,
+                }
+            },
+            "columnKind": "unicodeCodePoints",
+            "results": results,
+        }],
+    });
+    let mut s = serde_json::to_string_pretty(&v).expect("JSON values serialise");
+    s.push('\n');
+    s
+}
+
+/// SARIF's name for a severity.
+fn level(s: Severity) -> &'static str {
+    match s {
+        Severity::Error => "error",
+        Severity::Warning => "warning",
+        Severity::Note => "note",
+    }
+}
+
+/// A rule as a SARIF `reportingDescriptor`.
+fn rule(r: &Rule) -> Value {
+    json!({
+        "id": r.name,
+        "shortDescription": { "text": r.summary },
+        "fullDescription": { "text": unwrap_paragraphs(r.explanation) },
+        "help": { "text": describe(r), "markdown": help_markdown(r) },
+        "defaultConfiguration": { "level": level(r.severity) },
+    })
+}
+
+/// Join the hard-wrapped lines of each paragraph; paragraphs stay apart.
+fn unwrap_paragraphs(text: &str) -> String {
+    text.split("\n\n")
+        .map(|p| p.split_whitespace().collect::<Vec<_>>().join(" "))
+        .filter(|p| !p.is_empty())
+        .collect::<Vec<_>>()
+        .join("\n\n")
+}
+
+/// The rule's text as Markdown, with the examples as YAML code blocks.
+fn help_markdown(r: &Rule) -> String {
+    format!(
+        "**{}** ({} by default): {}\n\n{}\n\nRaises it:\n\n```yaml\n{}```\n\nPasses:\n\n```yaml\n{}```\n",
+        r.name,
+        level(r.severity),
+        r.summary,
+        unwrap_paragraphs(r.explanation),
+        r.failing,
+        r.passing
+    )
+}
+
+/// One finding as a SARIF `result`.
+fn result(sources: &Sources, f: &Finding) -> Value {
+    let mut o = Map::new();
+    o.insert("ruleId".into(), json!(f.rule));
+    if let Some(i) = RULES.iter().position(|r| r.name == f.rule) {
+        o.insert("ruleIndex".into(), json!(i));
+    }
+    o.insert("level".into(), json!(level(f.severity)));
+    o.insert("message".into(), json!({ "text": message_text(f) }));
+    o.insert(
+        "locations".into(),
+        json!([location(sources, &f.primary, None)]),
+    );
+    if !f.secondary.is_empty() {
+        let related: Vec<Value> = f
+            .secondary
+            .iter()
+            .enumerate()
+            .map(|(i, l)| location(sources, l, Some(i)))
+            .collect();
+        o.insert("relatedLocations".into(), Value::Array(related));
+    }
+    if let Some(reason) = &f.suppressed {
+        o.insert(
+            "suppressions".into(),
+            json!([{ "kind": "inSource", "justification": reason }]),
+        );
+    }
+    let mut props = Map::new();
+    if let Some(c) = &f.channel {
+        props.insert("channel".into(), json!(c));
+    }
+    if !f.values.is_empty() {
+        props.insert("values".into(), Value::Object(f.values.clone()));
+    }
+    if !props.is_empty() {
+        o.insert("properties".into(), Value::Object(props));
+    }
+    Value::Object(o)
+}
+
+/// The message, with the help as a second sentence.
+fn message_text(f: &Finding) -> String {
+    let sentence = |s: &str| {
+        if s.ends_with('.') {
+            s.to_string()
+        } else {
+            format!("{s}.")
+        }
+    };
+    match &f.help {
+        Some(h) if !h.is_empty() => format!("{} {}", sentence(&f.message), sentence(h)),
+        _ => f.message.clone(),
+    }
+}
+
+/// A labelled span as a SARIF `location` (with an `id` when it is a related location).
+fn location(sources: &Sources, label: &Label, id: Option<usize>) -> Value {
+    let file = sources.get(label.span.file);
+    let (start_line, start_column) = file.line_col(label.span.start);
+    let (end_line, end_column) = file.line_col(label.span.end);
+    let mut o = Map::new();
+    if let Some(id) = id {
+        o.insert("id".into(), json!(id));
+    }
+    o.insert(
+        "physicalLocation".into(),
+        json!({
+            "artifactLocation": { "uri": uri(&file.display) },
+            "region": {
+                "startLine": start_line,
+                "startColumn": start_column,
+                "endLine": end_line,
+                "endColumn": end_column,
+            },
+        }),
+    );
+    if !label.text.is_empty() {
+        o.insert("message".into(), json!({ "text": label.text }));
+    }
+    Value::Object(o)
+}
+
+/// A display path as a URI reference (RFC 3986): a relative path stays relative; an
+/// absolute one (as the platform reads it) becomes a `file:` URI (RFC 8089):
+/// `/srv/rigs/a.rig.yaml` → `file:///srv/rigs/a.rig.yaml`, and on Windows
+/// `C:/rigs/a.rig.yaml` → `file:///C:/rigs/a.rig.yaml`, `//host/share/a.rig.yaml` →
+/// `file://host/share/a.rig.yaml`. Every byte outside the unreserved set and `/` is
+/// percent-encoded, so a `:` in a relative path cannot be read as a scheme.
+pub fn uri(display: &str) -> String {
+    let path = display.replace('\\', "/");
+    if !std::path::Path::new(display).is_absolute() {
+        return encode(&path);
+    }
+    let b = path.as_bytes();
+    if b.len() >= 2 && b[0].is_ascii_alphabetic() && b[1] == b':' {
+        // A drive keeps its colon.
+        format!("file:///{}{}", &path[..2], encode(&path[2..]))
+    } else if cfg!(windows) && path.starts_with("//") {
+        format!("file:{}", encode(&path))
+    } else {
+        format!("file://{}", encode(&path))
+    }
+}
+
+fn encode(s: &str) -> String {
+    let mut out = String::with_capacity(s.len());
+    for &byte in s.as_bytes() {
+        if byte.is_ascii_alphanumeric() || matches!(byte, b'-' | b'.' | b'_' | b'~' | b'/') {
+            out.push(char::from(byte));
+        } else {
+            out.push_str(&format!("%{byte:02X}"));
+        }
+    }
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    // RFC 3986 §2.1–2.3: unreserved characters stay, everything else is %XX of its
+    // UTF-8 bytes in upper-case hex.
+    #[test]
+    fn relative_paths_stay_relative_and_are_percent_encoded() {
+        assert_eq!(
+            uri("rigs/bay-3.rig.yaml"),
+            "rigs/bay-3.rig.yaml".to_string()
+        );
+        assert_eq!(uri("../catalog/lab.yaml"), "../catalog/lab.yaml");
+        assert_eq!(uri("my rigs/bay 3.rig.yaml"), "my%20rigs/bay%203.rig.yaml");
+        assert_eq!(uri("a:b.rig.yaml"), "a%3Ab.rig.yaml");
+        assert_eq!(uri("µ#%.rig.yaml"), "%C2%B5%23%25.rig.yaml");
+        assert_eq!(uri("rigs\\bay.rig.yaml"), "rigs/bay.rig.yaml");
+    }
+
+    // RFC 8089 (the `file` URI scheme): `file:///path`, `file:///C:/path`,
+    // `file://host/share/path`.
+    #[test]
+    fn absolute_paths_become_file_uris() {
+        #[cfg(unix)]
+        {
+            assert_eq!(
+                uri("/srv/rigs/a b.rig.yaml"),
+                "file:///srv/rigs/a%20b.rig.yaml"
+            );
+            // Not absolute on Unix: a directory named `C:`.
+            assert_eq!(uri("C:/rigs/a.rig.yaml"), "C%3A/rigs/a.rig.yaml");
+        }
+        #[cfg(windows)]
+        {
+            assert_eq!(
+                uri("C:/rigs/a b.rig.yaml"),
+                "file:///C:/rigs/a%20b.rig.yaml"
+            );
+            assert_eq!(uri("C:\\rigs\\a.rig.yaml"), "file:///C:/rigs/a.rig.yaml");
+            assert_eq!(
+                uri("//host/share/a.rig.yaml"),
+                "file://host/share/a.rig.yaml"
+            );
+        }
+    }
+
+    #[test]
+    fn help_becomes_the_second_sentence() {
+        let span = crate::source::Span::point(0, 0);
+        let f = Finding::new(
+            "nyquist",
+            Severity::Error,
+            Label::new(span, "x"),
+            "too slow",
+        );
+        assert_eq!(message_text(&f), "too slow");
+        let f = f.with_help("divide by less");
+        assert_eq!(message_text(&f), "too slow. divide by less.");
+    }
+
+    #[test]
+    fn paragraphs_are_unwrapped() {
+        assert_eq!(unwrap_paragraphs("a b\nc\n\nd\ne\n"), "a b c\n\nd e");
+    }
 }
