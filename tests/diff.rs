@@ -486,6 +486,34 @@ fn old_findings_and_an_unrelated_change_pass() {
     assert_eq!(chans, [("ram-position", "added")]);
 }
 
+/// The catalog sensor `acc-a` widens from 10 kHz to 12 kHz; `vib` has no band of its own,
+/// so its band follows (48 kHz / 10 kHz = 4.8 → 48 / 12 = 4; folds from 38 kHz → 36 kHz,
+/// above the 24 kHz stopband edge either way: 100 dB). `mic-b` only gets a new `kind`,
+/// which moves no number: `snd` is not listed.
+#[test]
+fn a_sensor_change_is_a_derived_change_named_after_the_sensor() {
+    let old = "tests/diff/sensor-change/old";
+    let new = "tests/diff/sensor-change/new";
+    let (out, err, code) = run(&["diff", old, new, "--format", "json"]);
+    assert_eq!(code, 0, "{out}{err}");
+    let v = json_of(&out);
+    assert_eq!(
+        v["channels"],
+        json!([{
+            "rig": format!("{new}/rig.rig.yaml"), "channel": "vib", "status": "changed",
+            "edited": false, "derived": true,
+            "causes": [{ "kind": "sensor", "name": "acc-a" }],
+            "changed": ["band", "ratio"],
+            "before": metrics("wf-frame", 48_000.0, 10_000.0, 4.8, Some((100.0, 0, 38_000.0)), 40.0),
+            "after": metrics("wf-frame", 48_000.0, 12_000.0, 4.0, Some((100.0, 0, 36_000.0)), 40.0),
+        }])
+    );
+    assert_eq!(
+        (v["introduced"].clone(), v["resolved"].clone()),
+        (json!([]), json!([]))
+    );
+}
+
 /// A temporary directory for one test, removed afterwards.
 struct Scratch(PathBuf);
 

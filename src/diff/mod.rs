@@ -19,6 +19,7 @@ mod render;
 use crate::campaign::{self, Fatal, Options, Outcome, RigOutcome};
 use crate::finding::{ATTENUATION_CEILING_DB, Finding, Severity, finite};
 use crate::model::quantity::{Exact, to_f64};
+use crate::model::{Filter, Module, Response, Sensor, Sp};
 use crate::resolve::chain::Chain;
 use crate::resolve::{RChannel, Rig};
 use crate::source::FileId;
@@ -728,7 +729,7 @@ fn compare_channels(
                 }
                 let (och, nch) = (&orig.channels[oi], &nrig.channels[ni]);
                 let edited = o.text(och.def.item) != n.text(nch.def.item);
-                let causes = upstream(o, orig, och, n, nrig, nch, &changed, edited);
+                let causes = upstream(orig, och, nrig, nch, &changed);
                 ChannelChange {
                     rig: file.to_string(),
                     name: name.clone(),
@@ -779,19 +780,18 @@ fn first_changed_clock(orig: &Rig, nrig: &Rig, clock: usize) -> Option<usize> {
 }
 
 /// What upstream of a changed channel moved its numbers.
-#[allow(clippy::too_many_arguments)]
 fn upstream(
-    o: &Side,
     orig: &Rig,
     och: &RChannel,
-    n: &Side,
     nrig: &Rig,
     nch: &RChannel,
     changed: &[&str],
-    edited: bool,
 ) -> Vec<Cause> {
     let mut causes = Vec::new();
-    let same_ref = |a: &Option<crate::model::Sp<String>>, b: &Option<crate::model::Sp<String>>| matches!((a, b), (Some(a), Some(b)) if a.value == b.value);
+    let same_ref = |a: &Option<Sp<String>>, b: &Option<Sp<String>>| match (a, b) {
+        (Some(a), Some(b)) => a.value == b.value,
+        _ => false,
+    };
     if changed.contains(&"final_rate")
         && same_ref(&och.def.clock, &nch.def.clock)
         && let Some(k) = nch.clock
@@ -799,24 +799,48 @@ fn upstream(
     {
         causes.push(Cause::Clock(nrig.clocks[i].def.name.value.clone()));
     }
-    let alias_or_band = changed.contains(&"band") || changed.contains(&"alias_attenuation");
-    if alias_or_band
-        && same_ref(&och.def.sensor, &nch.def.sensor)
+    let has = |field: &str| changed.contains(&field);
+    // Sensors, modules and thresholds are compared by value, so that a change that cannot
+    // move this channel's numbers (a sensor's `kind`, a module's `throughput`) is not
+    // named as a cause.
+    let responses = |f: Option<&Sp<Vec<Filter>>>| -> Vec<Response> {
+        f.map(|v| v.value.iter().map(|x| x.response.clone()).collect())
+            .unwrap_or_default()
+    };
+    if same_ref(&och.def.sensor, &nch.def.sensor)
         && let (Some(a), Some(b)) = (och.sensor, nch.sensor)
-        && o.text(orig.sensors[a].item) != n.text(nrig.sensors[b].item)
     {
-        causes.push(Cause::Sensor(nrig.sensors[b].name.value.clone()));
+        let (sa, sb) = (&orig.sensors[a], &nrig.sensors[b]);
+        let bandwidth = |s: &Sensor| s.bandwidth.as_ref().map(|b| b.value);
+        let band_moved = has("band")
+            && nch.band.as_ref().is_some_and(|b| b.from_sensor)
+            && bandwidth(sa) != bandwidth(sb);
+        let response_moved = has("alias_attenuation")
+            && responses(sa.response.as_ref()) != responses(sb.response.as_ref());
+        if band_moved || response_moved {
+            causes.push(Cause::Sensor(sb.name.value.clone()));
+        }
     }
-    let mut module = false;
-    if (changed.contains(&"alias_attenuation") || changed.contains(&"required_rejection"))
-        && same_ref(&och.def.module, &nch.def.module)
+    if same_ref(&och.def.module, &nch.def.module)
         && let (Some(a), Some(b)) = (och.module, nch.module)
-        && o.text(orig.modules[a].item) != n.text(nrig.modules[b].item)
     {
-        module = true;
-        causes.push(Cause::Module(nrig.modules[b].name.value.clone()));
+        let (ma, mb) = (&orig.modules[a], &nrig.modules[b]);
+        let filters_moved = has("alias_attenuation")
+            && nch.def.filters.is_none()
+            && responses(ma.filters.as_ref()) != responses(mb.filters.as_ref());
+        let value = |m: &Module| {
+            (
+                m.alias_rejection.as_ref().map(|r| r.value),
+                m.adc_bits.as_ref().map(|r| r.value),
+            )
+        };
+        let rejection_moved = has("required_rejection") && value(ma) != value(mb);
+        if filters_moved || rejection_moved {
+            causes.push(Cause::Module(mb.name.value.clone()));
+        }
     }
-    if changed.contains(&"required_rejection") && !edited && !module {
+    let rig_level = |r: &Rig| r.thresholds.alias_rejection.as_ref().map(|t| t.0);
+    if has("required_rejection") && rig_level(orig) != rig_level(nrig) {
         causes.push(Cause::Thresholds);
     }
     causes
