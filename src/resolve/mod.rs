@@ -222,7 +222,9 @@ pub fn closest<'a>(name: &str, candidates: impl Iterator<Item = &'a str>) -> Opt
     candidates
         .map(|c| (strsim::jaro_winkler(name, c), c))
         .filter(|(score, _)| *score >= 0.75)
-        .max_by(|a, b| a.0.total_cmp(&b.0))
+        // Ties go to the name that sorts first, so the answer never depends on the
+        // order candidates come in (hash maps).
+        .max_by(|a, b| a.0.total_cmp(&b.0).then_with(|| b.1.cmp(a.1)))
         .map(|(_, c)| c)
 }
 
@@ -557,4 +559,24 @@ pub fn resolve(docs: &[&Document], settings: &ThresholdSettings) -> (Rig, Vec<Fi
 pub fn rate_text(rate: Option<Exact>) -> String {
     rate.map(|r| format_hz(to_f64(&r)))
         .unwrap_or_else(|| "an unknown rate".to_string())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::closest;
+
+    #[test]
+    fn closest_name_ties_do_not_depend_on_order() {
+        // Regression: a hash map's order once decided between equally close names.
+        assert_eq!(
+            closest("temp-3", ["temp-2", "temp-1"].into_iter()),
+            Some("temp-1")
+        );
+        assert_eq!(
+            closest("temp-3", ["temp-1", "temp-2"].into_iter()),
+            Some("temp-1")
+        );
+        assert_eq!(closest("bsae", ["base", "spare"].into_iter()), Some("base"));
+        assert_eq!(closest("xyz", ["base"].into_iter()), None);
+    }
 }
