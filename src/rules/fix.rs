@@ -57,12 +57,18 @@ fn module_allows(rig: &Rig, module: Option<usize>, rate: &Exact) -> bool {
     true
 }
 
-fn others(n: usize) -> String {
-    match n {
-        0 => "no other channel shares it".to_string(),
-        1 => "also changes 1 other channel".to_string(),
-        n => format!("also changes {n} other channels"),
+/// "also changes 3 other channels of this rig", and a warning when the clock comes from
+/// a shared catalog (other rigs may sample on it too).
+fn others(n: usize, shared: bool) -> String {
+    let mut s = match n {
+        0 => "no other channel of this rig shares it".to_string(),
+        1 => "also changes 1 other channel of this rig".to_string(),
+        n => format!("also changes {n} other channels of this rig"),
+    };
+    if shared {
+        s.push_str("; the clock is in a shared catalog, so other rigs may change too");
     }
+    s
 }
 
 /// What an ADC-stage fix must reach with a filter when no rate works: the frequency
@@ -141,7 +147,7 @@ pub fn adc_help(
                     source.value,
                     c.def.name.value,
                     format_hz(to_f64(&rate)),
-                    others(sharing)
+                    others(sharing, c.def.name.span.file != rig.file)
                 ));
             }
         }
