@@ -483,3 +483,26 @@ fn budget_arithmetic_by_hand() {
     );
     assert_eq!(values.len(), 3, "{report:#}");
 }
+
+#[test]
+fn human_columns_count_characters_like_json() {
+    // Regression: the human header once counted bytes, so text like "Prüfstand" before
+    // a value moved its column away from the JSON output's.
+    let dir = tempfile::tempdir().unwrap();
+    write(
+        dir.path(),
+        "u.rig.yaml",
+        "{ format: 1, rig: u, description: \"Prüfstand für Mikrofone\", clocks: [{ name: cd, frequency: 44.1 kHz }], channels: [{ name: left, clock: cd, band: 20 kHz, filters: [{ response: digital, passband-edge: 0.454, stopband-edge: 0.546, attenuation: 100 dB }] }] }\n",
+    );
+    let (report, _) = check_json(dir.path(), &["u.rig.yaml"]);
+    let f = &report["findings"][0];
+    assert_eq!(f["rule"], "sampling-margin", "{report:#}");
+    let (line, col) = (f["line"].as_u64().unwrap(), f["column"].as_u64().unwrap());
+    let human =
+        String::from_utf8(run_in(dir.path(), &["check", "--color", "never", "u.rig.yaml"]).stdout)
+            .unwrap();
+    assert!(
+        human.contains(&format!("u.rig.yaml:{line}:{col}]")),
+        "{human}\nJSON says {line}:{col}"
+    );
+}

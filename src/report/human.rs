@@ -4,7 +4,8 @@ use super::{Counts, plural};
 use crate::finding::{Finding, Label, Severity};
 use crate::source::{Sources, Span};
 use miette::{
-    Diagnostic, GraphicalReportHandler, GraphicalTheme, LabeledSpan, NamedSource, SourceSpan,
+    Diagnostic, GraphicalReportHandler, GraphicalTheme, LabeledSpan, MietteError,
+    MietteSpanContents, SourceCode, SourceSpan, SpanContents,
 };
 use std::fmt;
 use std::time::Duration;
@@ -23,7 +24,7 @@ struct Report {
     rule: &'static str,
     severity: Severity,
     help: Option<String>,
-    source: NamedSource<String>,
+    source: Source,
     labels: Vec<LabeledSpan>,
     related: Vec<Report>,
 }
@@ -77,6 +78,53 @@ impl Diagnostic for Report {
     }
 }
 
+/// A named YAML text whose columns count characters (as the JSON and SARIF output and
+/// SPEC §7 do), not bytes.
+struct Source {
+    name: String,
+    text: String,
+}
+
+impl Source {
+    fn new(name: &str, text: &str) -> Self {
+        Source {
+            name: name.to_string(),
+            text: text.to_string(),
+        }
+    }
+}
+
+impl SourceCode for Source {
+    fn read_span<'a>(
+        &'a self,
+        span: &SourceSpan,
+        context_lines_before: usize,
+        context_lines_after: usize,
+    ) -> Result<Box<dyn SpanContents<'a> + 'a>, MietteError> {
+        let inner =
+            self.text
+                .as_str()
+                .read_span(span, context_lines_before, context_lines_after)?;
+        let start = inner.span().offset().min(self.text.len());
+        let line_start = self.text[..start].rfind('\n').map_or(0, |i| i + 1);
+        let column = self
+            .text
+            .get(line_start..start)
+            .map_or(0, |s| s.chars().count());
+        Ok(Box::new(
+            MietteSpanContents::new_named(
+                self.name.clone(),
+                inner.data(),
+                *inner.span(),
+                inner.line(),
+                column,
+                inner.line_count(),
+            )
+            .with_language("yaml"),
+        ))
+    }
+}
+
 fn source_span(span: Span) -> SourceSpan {
     SourceSpan::new((span.start as usize).into(), span.len())
 }
@@ -103,17 +151,14 @@ fn build(sources: &Sources, f: &Finding) -> Report {
     for l in elsewhere {
         let other = sources.get(l.span.file);
         let label = LabeledSpan::new_with_span(Some(l.text.clone()), source_span(l.span));
-        match related
-            .iter_mut()
-            .find(|r| r.source.name() == other.display)
-        {
+        match related.iter_mut().find(|r| r.source.name == other.display) {
             Some(r) => r.labels.push(label),
             None => related.push(Report {
                 message: format!("in {}", other.display),
                 rule: "",
                 severity: Severity::Note,
                 help: None,
-                source: NamedSource::new(other.display.clone(), other.text.clone()),
+                source: Source::new(&other.display, &other.text),
                 labels: vec![label],
                 related: Vec::new(),
             }),
@@ -124,7 +169,7 @@ fn build(sources: &Sources, f: &Finding) -> Report {
         rule: f.rule,
         severity: f.severity,
         help: f.help.clone(),
-        source: NamedSource::new(file.display.clone(), file.text.clone()).with_language("yaml"),
+        source: Source::new(&file.display, &file.text),
         labels,
         related,
     }
