@@ -506,3 +506,22 @@ fn human_columns_count_characters_like_json() {
         "{human}\nJSON says {line}:{col}"
     );
 }
+
+#[test]
+fn the_readme_settings_example_is_valid_under_the_settings_schema_and_loads() {
+    let readme = fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/README.md")).unwrap();
+    let start = readme.find("```toml\n").expect("a toml block") + 8;
+    let text = &readme[start..start + readme[start..].find("```").unwrap()];
+    let value: toml::Value = toml::from_str(text).unwrap();
+    let json = serde_json::to_value(&value).unwrap();
+    let schema: Value = serde_json::from_str(foldcheck::settings::SETTINGS_SCHEMA).unwrap();
+    let validator = jsonschema::draft202012::new(&schema).unwrap();
+    let errors: Vec<String> = validator.iter_errors(&json).map(|e| e.to_string()).collect();
+    assert!(errors.is_empty(), "{errors:?}");
+    let s = foldcheck::settings::parse(Path::new("foldcheck.toml"), text).unwrap();
+    assert_eq!(s.thresholds.margin, Some(2.56));
+    assert_eq!(s.thresholds.alias_rejection, Some(90.0));
+    // And the schema refuses what the loader refuses.
+    let bad = serde_json::json!({ "rules": { "nyquist": "loud" } });
+    assert!(!validator.is_valid(&bad));
+}
