@@ -53,8 +53,9 @@
 //!                             "required_db", "pass": true | false | null }
 //!     } ],
 //!     "disturbances": [ { "name", "frequency_hz", "level_db", "required_db",
-//!                         "outcome": "in-band" | "folds-in" | "stays-out",
-//!                         "stage": 1 | null, "pass": true | false | null,
+//!                         "outcome": "in-band" | "folds-in" | "stays-out" | "not-checked",
+//!                         "stage": 1 | null,     // where it folds in (or fails nyquist)
+//!                         "pass": true | false | null,
 //!                         "steps": [ { "stage", "rate_hz", "from_hz", "lands_at_hz",
 //!                                      "folds", "in_band", "attenuation_db" } ] } ],
 //!     "passband": { "band_hz", "attenuation_db", "contributions": [..],
@@ -193,6 +194,7 @@ pub fn render(ins: &Inspection, plot: Option<&str>) -> String {
                 let (outcome, stage, pass) = match &d.outcome {
                     DisturbanceOutcome::InBand => ("in-band", None, None),
                     DisturbanceOutcome::StaysOut => ("stays-out", None, None),
+                    DisturbanceOutcome::NotChecked { stage } => ("not-checked", Some(*stage), None),
                     DisturbanceOutcome::FoldsIn { stage, pass } => {
                         ("folds-in", Some(*stage), Some(*pass))
                     }

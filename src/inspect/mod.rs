@@ -432,6 +432,12 @@ pub enum DisturbanceOutcome {
     },
     /// It never lands in the band.
     StaysOut,
+    /// The rate at this stage is not above twice the band (`nyquist`), so the tone is
+    /// not followed further.
+    NotChecked {
+        /// The rate change that fails `nyquist`.
+        stage: usize,
+    },
 }
 
 /// The chain's attenuation at the band edge.
@@ -889,7 +895,9 @@ fn analyse(rig: &Rig, ci: usize) -> Result<Analysis, String> {
             for rc in &chain.changes {
                 let fs = rc.fs_hz();
                 if fs <= 2.0 * band {
-                    break; // the rules stop here: nyquist reports the channel
+                    // The rules stop here: nyquist reports the channel.
+                    outcome = DisturbanceOutcome::NotChecked { stage: rc.stage };
+                    break;
                 }
                 let folded = fold(at, fs);
                 let folds = at > fs / 2.0;
@@ -1098,7 +1106,7 @@ pub fn plot_data(rig: &Rig, ci: usize, ins: &Inspection) -> Option<plot::PlotDat
                 None,
                 None,
             ),
-            DisturbanceOutcome::StaysOut => (
+            DisturbanceOutcome::StaysOut | DisturbanceOutcome::NotChecked { .. } => (
                 format!("{} {}", d.name, format_hz(d.frequency_hz)),
                 chain.attenuation_db(d.frequency_hz, 0),
                 None,
@@ -1124,15 +1132,16 @@ pub fn plot_data(rig: &Rig, ci: usize, ins: &Inspection) -> Option<plot::PlotDat
     // Images of the band around multiples of the ADC rate.
     let mut images = Vec::new();
     let mut k = 1u32;
-    while f64::from(k) * fs0 - band < f_max {
+    while f64::from(k) * fs0 - band < f_max && k <= 200 {
         let c = f64::from(k) * fs0;
         images.push(plot::Image {
-            low_hz: c - band,
+            low_hz: (c - band).max(f_min),
             high_hz: (c + band).min(f_max),
-            label: if k == 1 {
-                "fs ± B".to_string()
-            } else {
-                format!("{k}fs ± B")
+            // The first few carry a label; the legend explains the rest.
+            label: match k {
+                1 => "fs ± B".to_string(),
+                2..=3 => format!("{k}fs ± B"),
+                _ => String::new(),
             },
         });
         k += 1;

@@ -63,7 +63,7 @@ pub struct Image {
     pub low_hz: f64,
     /// High edge, Hz.
     pub high_hz: f64,
-    /// "fs ± B", "2fs ± B" …
+    /// "fs ± B", "2fs ± B" …, or empty for an image drawn without a label.
     pub label: String,
 }
 
@@ -176,15 +176,16 @@ const Y_LABEL_AREA: u32 = 70;
 const X_LABEL_AREA: u32 = 50;
 const MARGIN_LEFT: u32 = 10;
 const MARGIN_RIGHT: u32 = 30;
-const LABEL_FONT: f64 = 13.0;
-const LABEL_ROW: i32 = 18;
-const HEADER: i32 = 66;
+const LABEL_FONT: f64 = 15.0;
+const LABEL_ROW: i32 = 19;
+const HEADER: i32 = 74;
 const FONT: &str = "sans-serif";
 
-/// A rough width of text in pixels (SVG viewers measure the real one; this only keeps
-/// labels apart).
+/// A rough width of text in pixels, on the generous side (SVG viewers measure the real
+/// one; this only keeps labels apart). `size` is the plotters size, which the SVG
+/// backend writes as a font size of `size / 1.24`; sans-serif glyphs average about 0.6 em.
 fn text_width(s: &str, size: f64) -> i32 {
-    (s.chars().count() as f64 * size * 0.6).ceil() as i32
+    (s.chars().count() as f64 * size / 1.24 * 0.62).ceil() as i32
 }
 
 /// A label placed above the plot: its leader's x, its text span, its row (0 nearest to
@@ -396,7 +397,7 @@ fn draw(d: &PlotData, svg: &mut String) -> DrawResult {
             colour: marker_colour(m),
         })
         .collect();
-    tags.extend(d.images.iter().map(|im| {
+    tags.extend(d.images.iter().filter(|im| !im.label.is_empty()).map(|im| {
         let centre = ((im.low_hz.ln() + im.high_hz.ln()) / 2.0).exp();
         Tag {
             f: centre,
@@ -430,36 +431,37 @@ fn draw(d: &PlotData, svg: &mut String) -> DrawResult {
     if !d.images.is_empty() {
         legend.push((
             Swatch::Fill(IMAGE_FILL),
-            "images of the band, k·fs ± B: energy there folds into the band at the ADC".to_string(),
+            "images k·fs ± B of the band: energy there folds into it at the ADC".to_string(),
         ));
     }
     legend.push((Swatch::Dashed(REQUIRED), d.required_label.clone()));
     if d.markers.iter().any(|m| m.kind == MarkerKind::Fold) {
         legend.push((
             Swatch::Dot(RGBColor(20, 130, 60)),
-            "fs − B: lowest frequency that folds into the band (green: enough attenuation, red: not)"
+            "fs − B: lowest frequency folding into the band (red: too little attenuation)"
                 .to_string(),
         ));
     }
     if d.markers.iter().any(|m| m.kind == MarkerKind::Resonance) {
         legend.push((
             Swatch::Triangle(RGBColor(170, 90, 0)),
-            "sensor resonance, at its net attenuation (chain less the resonance gain)".to_string(),
+            "sensor resonance, at its net attenuation (the chain's less its gain)".to_string(),
         ));
     }
     if d.markers.iter().any(|m| m.kind == MarkerKind::Disturbance) {
         legend.push((
             Swatch::Cross(RGBColor(120, 50, 160)),
-            "disturbance tone (red: folds into the band without enough attenuation)".to_string(),
+            "disturbance tone (red: folds into the band with too little attenuation)".to_string(),
         ));
     }
     let legend_rows = legend.len().div_ceil(2) as i32;
+    let legend_row = 22;
     let legend_top = plot_top + PLOT_HEIGHT as i32 + X_LABEL_AREA as i32 + 8;
-    let height = legend_top + legend_rows * 20 + 10 + d.notes.len() as i32 * 18 + 6;
+    let height = legend_top + legend_rows * legend_row + 10 + d.notes.len() as i32 * 20 + 6;
 
     let root = SVGBackend::with_string(svg, (WIDTH, height as u32)).into_drawing_area();
     root.fill(&WHITE)?;
-    let title_font = (FONT, 22.0).into_font().style(FontStyle::Bold);
+    let title_font = (FONT, 26.0).into_font().style(FontStyle::Bold);
     root.draw(&Text::new(
         d.title.clone(),
         (WIDTH as i32 / 2, 12),
@@ -469,8 +471,8 @@ fn draw(d: &PlotData, svg: &mut String) -> DrawResult {
     ))?;
     root.draw(&Text::new(
         d.subtitle.clone(),
-        (WIDTH as i32 / 2, 42),
-        (FONT, 15.0)
+        (WIDTH as i32 / 2, 46),
+        (FONT, 18.0)
             .into_font()
             .color(&RGBColor(60, 60, 60))
             .pos(Pos::new(HPos::Center, VPos::Top)),
@@ -487,15 +489,15 @@ fn draw(d: &PlotData, svg: &mut String) -> DrawResult {
         .build_cartesian_2d((d.f_min..d.f_max).log_scale(), -y_max..y_top)?;
     chart
         .configure_mesh()
-        .x_labels(3)
+        .x_labels(((d.f_max / d.f_min).log10().ceil() as usize + 1).min(12))
         .y_labels(((y_max + y_top) / 20.0) as usize + 1)
         .y_max_light_lines(1)
         .x_label_formatter(&|f| format_hz(*f))
         .y_label_formatter(&|y| format!("{:.0}", if *y == 0.0 { 0.0 } else { -*y }))
         .x_desc("frequency")
         .y_desc("attenuation (dB)")
-        .label_style((FONT, 14.0))
-        .axis_desc_style((FONT, 15.0))
+        .label_style((FONT, 16.0))
+        .axis_desc_style((FONT, 17.0))
         .light_line_style(RGBColor(235, 235, 235))
         .bold_line_style(RGBColor(200, 200, 200))
         .draw()?;
@@ -508,7 +510,7 @@ fn draw(d: &PlotData, svg: &mut String) -> DrawResult {
         )))?;
     }
     chart.draw_series(std::iter::once(Rectangle::new(
-        [(d.f_min, -y_max), (d.band_hz, y_top)],
+        [(d.f_min, -y_max), (d.band_hz.min(d.f_max), y_top)],
         BAND_FILL.mix(0.6).filled(),
     )))?;
 
@@ -592,7 +594,7 @@ fn draw(d: &PlotData, svg: &mut String) -> DrawResult {
     // Tick labels at 2 and 5 times each decade, where a decade is wide enough.
     let decades = (d.f_max / d.f_min).log10();
     if f64::from(x_range.end - x_range.start) / decades >= 200.0 {
-        let minor = (FONT, 12.0).into_font().color(&RGBColor(110, 110, 110));
+        let minor = (FONT, 14.0).into_font().color(&RGBColor(110, 110, 110));
         let mut p = 10f64.powf(d.f_min.log10().floor());
         while p <= d.f_max {
             for m in [2.0, 5.0] {
@@ -616,7 +618,7 @@ fn draw(d: &PlotData, svg: &mut String) -> DrawResult {
 
     // The band's name inside its shading, at the bottom.
     let (bx0, _) = chart.backend_coord(&(d.f_min, 0.0));
-    let (bx1, _) = chart.backend_coord(&(d.band_hz, 0.0));
+    let (bx1, _) = chart.backend_coord(&(d.band_hz.min(d.f_max), 0.0));
     let band_text = d.band_label.clone();
     if bx1 - bx0 > text_width(&band_text, LABEL_FONT) + 8 {
         root.draw(&Text::new(
@@ -669,7 +671,7 @@ fn draw(d: &PlotData, svg: &mut String) -> DrawResult {
             n.clone(),
             (
                 (MARGIN_LEFT + Y_LABEL_AREA) as i32,
-                legend_top + legend_rows * 20 + 10 + i as i32 * 18,
+                legend_top + legend_rows * legend_row + 10 + i as i32 * 20,
             ),
             (FONT, LABEL_FONT)
                 .into_font()
@@ -726,7 +728,7 @@ fn draw_legend(
     for (i, (sw, text)) in entries.iter().enumerate() {
         let (col, row) = (i / rows, i % rows);
         let x = col_x[col.min(1)];
-        let y = top + row as i32 * 20 + 10;
+        let y = top + row as i32 * 22 + 10;
         match *sw {
             Swatch::Line(c) => {
                 root.draw(&PathElement::new(

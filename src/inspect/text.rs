@@ -252,6 +252,12 @@ pub fn render(ins: &Inspection, plot: Option<&str>) -> String {
                             "inside the band itself: measured, not aliased".to_string()
                         }
                         DisturbanceOutcome::StaysOut => "never lands in the band: pass".to_string(),
+                        DisturbanceOutcome::NotChecked { stage: 0 } => {
+                            "not followed: the ADC rate is not above twice the band".to_string()
+                        }
+                        DisturbanceOutcome::NotChecked { stage } => format!(
+                            "not followed: stage {stage} leaves a rate not above twice the band"
+                        ),
                         DisturbanceOutcome::FoldsIn { stage, pass } => {
                             let a = d
                                 .steps
