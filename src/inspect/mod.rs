@@ -566,6 +566,35 @@ fn channel_findings(
         .collect()
 }
 
+/// The filters of a channel's chain in signal order: the sensor's response, the ADC
+/// chain (the channel's or its module's), then each decimation stage's filter — the
+/// order in which [`Chain::contributions`] lists them.
+fn chain_filters(rig: &Rig, ch: &RChannel) -> Vec<FilterInfo> {
+    let mut filters = Vec::new();
+    if let Some(resp) = ch.sensor.and_then(|s| rig.sensors[s].response.as_ref()) {
+        filters.extend(
+            resp.value
+                .iter()
+                .map(|f| filter_info("sensor response", 0, f)),
+        );
+    }
+    let adc_place = match ch.filters_span {
+        Some((_, o)) if o.contains("module") => "module filter",
+        _ => "channel filter",
+    };
+    filters.extend(ch.filters.iter().map(|f| filter_info(adc_place, 0, f)));
+    for (k, st) in ch.def.decimate.iter().enumerate() {
+        if let Some(f) = &st.filter {
+            filters.push(filter_info(
+                &format!("decimation stage {}", k + 1),
+                k + 1,
+                f,
+            ));
+        }
+    }
+    filters
+}
+
 fn filter_info(place: &str, stage: usize, f: &Filter) -> FilterInfo {
     FilterInfo {
         place: place.to_string(),
@@ -679,28 +708,7 @@ pub fn inspect(
         },
     });
 
-    let mut filters = Vec::new();
-    if let Some(resp) = ch.sensor.and_then(|s| rig.sensors[s].response.as_ref()) {
-        filters.extend(
-            resp.value
-                .iter()
-                .map(|f| filter_info("sensor response", 0, f)),
-        );
-    }
-    let adc_place = match ch.filters_span {
-        Some((_, o)) if o.contains("module") => "module filter",
-        _ => "channel filter",
-    };
-    filters.extend(ch.filters.iter().map(|f| filter_info(adc_place, 0, f)));
-    for (k, st) in ch.def.decimate.iter().enumerate() {
-        if let Some(f) = &st.filter {
-            filters.push(filter_info(
-                &format!("decimation stage {}", k + 1),
-                k + 1,
-                f,
-            ));
-        }
-    }
+    let filters = chain_filters(rig, ch);
     let filters_from = ch
         .filters_span
         .map(|(span, what)| format!("{what} at {}", position(sources, span)));
@@ -809,11 +817,17 @@ fn analyse(rig: &Rig, ci: usize) -> Result<Analysis, String> {
         .sensor
         .and_then(|s| rig.sensors[s].resonance.as_ref())
         .map(|r| (r.frequency.value, r.gain.value));
+    // Each filter's share, named by its place in the chain ("decimation stage 2: …").
+    let names = chain_filters(rig, ch);
     let contributions = |f: f64, k: usize| -> Vec<(String, f64)> {
-        chain
-            .contributions(f, k)
-            .into_iter()
-            .map(|c| (c.what, c.db))
+        let list = chain.contributions(f, k);
+        let same_order = list.len() <= names.len();
+        list.into_iter()
+            .enumerate()
+            .map(|(i, c)| match names.get(i).filter(|_| same_order) {
+                Some(n) => (format!("{}: {}", n.place, n.description), c.db),
+                None => (c.what, c.db),
+            })
             .collect()
     };
 

@@ -766,3 +766,68 @@ fn draw_legend(
     }
     Ok(())
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn labels_never_overlap_and_leaders_never_cross_text() {
+        // Crowded: a cluster near the right edge, two labels at the same x, a long one.
+        let items = [
+            (900, 150),
+            (903, 60),
+            (1000, 220),
+            (1100, 60),
+            (1150, 60),
+            (1180, 80),
+            (300, 120),
+            (310, 300),
+            (1180, 40),
+        ];
+        let placed = place_labels(&items, 10, 1196);
+        assert_eq!(placed.len(), items.len());
+        for (i, a) in placed.iter().enumerate() {
+            assert_eq!(a.x, items[i].0, "label {i} keeps its leader");
+            assert!(a.left >= 10 && a.right <= 1196, "label {i} inside: {a:?}");
+            for b in &placed[i + 1..] {
+                assert!(compatible(a, b), "{a:?} and {b:?}");
+            }
+        }
+        assert!(placed.iter().map(|p| p.row).max().unwrap() < MAX_ROWS - 1);
+    }
+
+    #[test]
+    fn a_lone_label_takes_the_row_next_to_the_plot() {
+        let placed = place_labels(&[(500, 100)], 10, 1196);
+        assert_eq!(placed[0].row, 0);
+        assert!(!placed[0].right_anchored);
+        // Too close to the right edge for its text: it ends at its leader instead.
+        let placed = place_labels(&[(1190, 100)], 10, 1196);
+        assert!(placed[0].right_anchored);
+        assert_eq!(placed[0].right, 1190);
+    }
+
+    #[test]
+    fn curves_leave_the_plot_instead_of_running_along_its_bottom() {
+        let pts = [
+            (1.0, 0.0),
+            (2.0, 50.0),
+            (3.0, 200.0),
+            (4.0, f64::INFINITY),
+            (5.0, 90.0),
+        ];
+        let runs = visible_runs(&pts, 100.0);
+        assert_eq!(runs.len(), 2);
+        assert_eq!(runs[0], vec![(1.0, 0.0), (2.0, 50.0), (3.0, 200.0)]);
+        assert_eq!(runs[1], vec![(4.0, f64::INFINITY), (5.0, 90.0)]);
+    }
+
+    #[test]
+    fn the_target_must_be_an_svg_file_name() {
+        assert!(check_target(Path::new("out.svg")).is_ok());
+        assert!(check_target(Path::new("OUT.SVG")).is_ok());
+        assert!(check_target(Path::new("rig.yaml")).is_err());
+        assert!(check_target(Path::new("plot")).is_err());
+    }
+}

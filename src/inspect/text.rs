@@ -450,7 +450,14 @@ fn stage(out: &mut String, s: &StageInfo, b: f64) {
         }
     }
     if let Some(r) = &s.resonance {
-        let head = format!("{} (+{} dB)", format_hz(r.frequency_hz), sig6(r.gain_db));
+        let mut head = format!("{} (+{} dB)", format_hz(r.frequency_hz), sig6(r.gain_db));
+        if s.stage > 0 && (r.arrives_at_hz - r.frequency_hz).abs() > 1e-9 && r.arrives_at_hz > b {
+            let _ = write!(
+                head,
+                ", at {} before this stage,",
+                format_hz(r.arrives_at_hz)
+            );
+        }
         let v = if r.frequency_hz <= b {
             format!("{head} lies inside the band")
         } else if r.arrives_at_hz <= b {
