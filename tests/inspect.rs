@@ -410,6 +410,10 @@ fn an_unknown_channel_is_fatal_and_names_the_closest_one() {
         err.contains("the rig `bench-audio` has no channel `mic-lfet`; did you mean `mic-left`?"),
         "{err}"
     );
+    // A directory is not a rig file: fatal too, rather than picking one of its rigs.
+    let o = foldcheck(&dir, &["inspect", ".", "mic-left"]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(stderr(&o).contains("is a directory"), "{}", stderr(&o));
 }
 
 #[test]
@@ -580,4 +584,32 @@ fn the_plot_never_overwrites_a_file_it_reads_or_a_non_svg_name() {
         ["bench.rig.yaml", "rig.svg"],
         "no temporary files left"
     );
+}
+
+#[test]
+fn a_clock_loop_on_the_channels_path_is_listed_with_its_findings() {
+    let dir = scratch("clock-loop");
+    let rig = "\
+format: 1
+rig: bench-loop
+clocks:
+  - name: a
+    source: b
+    divide: 2
+  - name: b
+    source: a
+    multiply: 4
+channels:
+  - name: x
+    clock: a
+    band: 1 kHz
+";
+    std::fs::write(dir.join("loop.rig.yaml"), rig).unwrap();
+    let o = foldcheck(&dir, &["inspect", "loop.rig.yaml", "x"]);
+    assert_eq!(o.status.code(), Some(0), "stderr: {}", stderr(&o));
+    let text = stdout(&o);
+    assert!(text.contains("a (rate unknown)"), "{text}");
+    assert!(text.contains("does not reach a root oscillator"), "{text}");
+    assert!(text.contains("clock-cycle"), "{text}");
+    assert!(text.contains("a → b → a"), "{text}");
 }

@@ -35,6 +35,12 @@ pub fn run(
     if let Some(p) = plot {
         plot::check_target(p)?;
     }
+    if file.is_dir() {
+        return Err(format!(
+            "{}: is a directory; name the rig file that holds the channel",
+            file.display()
+        ));
+    }
     let opts = Options {
         keep_rigs: true,
         settings: settings.clone(),
@@ -172,7 +178,8 @@ pub struct Inspection {
     pub analysis: Option<Analysis>,
     /// Why there is no analysis, when there is none.
     pub no_analysis: Option<String>,
-    /// The channel's findings from the same run, in output order.
+    /// The findings of the same run about the channel, or inside its item or the items
+    /// of the clocks on its path, its sensor and its module, in output order.
     pub findings: Vec<FindingInfo>,
 }
 
@@ -543,11 +550,22 @@ fn channel_findings(
     findings: &[Finding],
 ) -> Vec<FindingInfo> {
     let name = &ch.def.name.value;
+    // The channel's own item, and the parts it uses: a broken clock on its path, sensor
+    // or module explains why the channel does not resolve.
+    let mut items = vec![ch.def.item];
+    if let Some(k) = ch.clock {
+        items.extend(rig.clock_path(k).iter().map(|&i| rig.clocks[i].def.item));
+    }
+    items.extend(ch.sensor.map(|i| rig.sensors[i].item));
+    items.extend(ch.module.map(|i| rig.modules[i].item));
     findings
         .iter()
         .filter(|f| {
             f.channel.as_deref() == Some(name.as_str())
-                || (f.primary.span.file == rig.file && ch.def.item.contains(&f.primary.span))
+                || (f.channel.is_none()
+                    && items
+                        .iter()
+                        .any(|it| it.file == f.primary.span.file && it.contains(&f.primary.span)))
         })
         .map(|f| {
             let sf = sources.get(f.primary.span.file);
