@@ -363,7 +363,7 @@ fn stage(out: &mut String, s: &StageInfo, b: f64) {
     } else {
         let filter = s.filter.as_deref().map_or_else(
             || "no filter: plain down-sampling".to_string(),
-            |f| format!("filter {f}"),
+            |f| format!("with a {f}"),
         );
         let _ = writeln!(
             out,
