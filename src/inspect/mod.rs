@@ -1,0 +1,1215 @@
+//! `foldcheck inspect FILE CHANNEL`: one channel's signal chain, worked out by the same
+//! pipeline as `check` (load, resolve, rules) and laid out for a person.
+//!
+//! [`inspect`] gathers everything into an [`Inspection`]: the clock path with the exact
+//! rate at every step, the sensor, module and band, the required rejection and where it
+//! comes from, and for every rate change the ratio, the folding frequency `fs − B`, the
+//! attenuation there (per filter), the resonance and disturbance folds, the passband
+//! droop and the chain phase at the band edge, plus the channel's findings of the same
+//! run. The renderers ([`text`], [`json`], [`plot`]) only lay it out.
+
+pub mod json;
+pub mod plot;
+pub mod text;
+
+use crate::campaign::{self, Options};
+use crate::finding::{Finding, Severity};
+use crate::model::quantity::{self, Exact, Kind, format_hz, to_f64};
+use crate::model::{ClockDef, Filter};
+use crate::resolve::chain::Chain;
+use crate::resolve::{self, Origin, RChannel, Rig, ThresholdSettings};
+use crate::settings;
+use crate::signal::fold::fold;
+use crate::source::{Sources, Span};
+use std::path::{Path, PathBuf};
+
+/// Show one channel's chain: the text (or JSON) for stdout; with `plot`, also write its
+/// spectrum as SVG to that file. `Err` is a fatal message (exit status 2).
+pub fn run(
+    file: &Path,
+    channel: &str,
+    plot: Option<&Path>,
+    json: bool,
+    settings: Option<PathBuf>,
+) -> Result<String, String> {
+    if let Some(p) = plot {
+        plot::check_target(p)?;
+    }
+    if file.is_dir() {
+        return Err(format!(
+            "{}: is a directory; name the rig file that holds the channel",
+            file.display()
+        ));
+    }
+    let opts = Options {
+        keep_rigs: true,
+        settings: settings.clone(),
+        ..Default::default()
+    };
+    let out = campaign::run(&[file.to_path_buf()], &opts).map_err(|e| e.to_string())?;
+    let Some(outcome) = out.rigs.first() else {
+        return Err(format!(
+            "{}: the settings file excludes this file, so there is nothing to inspect",
+            file.display()
+        ));
+    };
+    let Some(rig) = &outcome.rig else {
+        let sf = out.sources.get(outcome.file);
+        let first = out
+            .findings
+            .iter()
+            .find(|f| f.primary.span.file == outcome.file);
+        return Err(match first {
+            Some(f) => {
+                let (line, col) = sf.line_col(f.primary.span.start);
+                format!(
+                    "{}:{line}:{col}: the rig cannot be read: {}",
+                    sf.display, f.message
+                )
+            }
+            None => format!("{}: the rig cannot be read", sf.display),
+        });
+    };
+    let Some(ci) = rig.channel(channel) else {
+        return Err(unknown_channel(rig, channel));
+    };
+    let thresholds = settings_thresholds(file, settings.as_deref());
+    let ins = inspect(rig, ci, &out.sources, &out.findings, &thresholds);
+    let mut plot_note = None;
+    if let Some(p) = plot {
+        let read: Vec<&Path> = out.sources.iter().map(|s| s.path.as_path()).collect();
+        let data = plot_data(rig, ci, &ins).ok_or_else(|| {
+            format!(
+                "cannot draw `{channel}`: its chain did not resolve (see its findings: run without --plot)"
+            )
+        })?;
+        plot::write(p, &plot::render(&data)?, &read)?;
+        plot_note = Some(p.display().to_string());
+    }
+    Ok(if json {
+        json::render(&ins, plot_note.as_deref())
+    } else {
+        text::render(&ins, plot_note.as_deref())
+    })
+}
+
+/// The fatal message for a channel name the rig does not define.
+fn unknown_channel(rig: &Rig, name: &str) -> String {
+    let rig_name = rig.name.as_ref().map_or_else(
+        || "the rig".to_string(),
+        |n| format!("the rig `{}`", n.value),
+    );
+    let names = || rig.channels.iter().map(|c| c.def.name.value.as_str());
+    if rig.channels.is_empty() {
+        return format!("{rig_name} has no channels");
+    }
+    match resolve::closest(name, names()) {
+        Some(best) => format!("{rig_name} has no channel `{name}`; did you mean `{best}`?"),
+        None => {
+            let mut known: Vec<&str> = names().collect();
+            let more = known.len().saturating_sub(8);
+            known.truncate(8);
+            let tail = if more > 0 {
+                format!(" and {more} more")
+            } else {
+                String::new()
+            };
+            format!(
+                "{rig_name} has no channel `{name}`; its channels are {}{tail}",
+                known.join(", ")
+            )
+        }
+    }
+}
+
+/// The settings file that applies to `file` (named or discovered) and its thresholds, for
+/// saying where each threshold comes from. The campaign run has already checked it.
+fn settings_thresholds(file: &Path, named: Option<&Path>) -> (Option<String>, ThresholdSettings) {
+    let path = match named {
+        Some(p) => Some(p.to_path_buf()),
+        None => {
+            let dir = file
+                .parent()
+                .filter(|d| !d.as_os_str().is_empty())
+                .unwrap_or(Path::new("."));
+            settings::discover(&campaign::absolute(dir))
+        }
+    };
+    match path.and_then(|p| settings::load(&p).ok().map(|s| (p, s))) {
+        Some((p, s)) => (Some(p.display().to_string()), s.thresholds),
+        None => (None, ThresholdSettings::default()),
+    }
+}
+
+/// Everything `inspect` shows about one channel.
+#[derive(Clone, Debug)]
+pub struct Inspection {
+    /// The rig file as given on the command line.
+    pub file: String,
+    /// The rig's name.
+    pub rig: Option<String>,
+    /// The channel's name.
+    pub channel: String,
+    /// Where the channel is defined: `file:line:column`.
+    pub defined_at: String,
+    /// Every reference resolved and no value broken (the rate analysis needs it).
+    pub resolved: bool,
+    /// The channel's clock and its path from the root.
+    pub clock: Option<ClockInfo>,
+    /// The sensor, if the channel names one.
+    pub sensor: Option<SensorInfo>,
+    /// The module, if the channel names one.
+    pub module: Option<ModuleInfo>,
+    /// The band and where it comes from.
+    pub band: Option<Sourced>,
+    /// The filters in the chain, in signal order (sensor, ADC chain, decimation stages).
+    pub filters: Vec<FilterInfo>,
+    /// Where the ADC-level chain is written ("the channel's `filters`" …), if anywhere.
+    pub filters_from: Option<String>,
+    /// Whether the channel says `filters: []` (no filters, overriding its module's).
+    pub filters_empty_override: bool,
+    /// The required rejection in dB and where it comes from.
+    pub rejection: Sourced,
+    /// The thresholds that apply to the channel.
+    pub thresholds: Vec<Threshold>,
+    /// Stored bits per sample.
+    pub sample_bits: u32,
+    /// The rate analysis, when the channel resolved and has a band.
+    pub analysis: Option<Analysis>,
+    /// Why there is no analysis, when there is none.
+    pub no_analysis: Option<String>,
+    /// The findings of the same run about the channel, or inside its item or the items
+    /// of the clocks on its path, its sensor and its module, in output order.
+    pub findings: Vec<FindingInfo>,
+}
+
+/// A value and where it comes from.
+#[derive(Clone, Debug)]
+pub struct Sourced {
+    /// The value (Hz for a band, dB for a rejection).
+    pub value: f64,
+    /// Where it comes from, in words, with `file:line:column` when it is written.
+    pub from: String,
+    /// Where it comes from, in words only ("the rig's `defaults.alias-rejection`").
+    pub what: String,
+}
+
+/// A threshold that applies to the channel.
+#[derive(Clone, Debug)]
+pub struct Threshold {
+    /// The key as written in `defaults` and foldcheck.toml (`margin` …).
+    pub key: &'static str,
+    /// The JSON name (`margin`, `passband_tolerance_db` …).
+    pub json_key: &'static str,
+    /// Its value.
+    pub value: f64,
+    /// The unit to print after it ("", " dB", " deg").
+    pub unit: &'static str,
+    /// Where it comes from.
+    pub from: String,
+}
+
+/// The channel's clock.
+#[derive(Clone, Debug)]
+pub struct ClockInfo {
+    /// The name the channel gives.
+    pub name: String,
+    /// Whether a clock of that name exists.
+    pub found: bool,
+    /// Root first, the channel's clock last (empty when not found).
+    pub path: Vec<ClockStep>,
+    /// Whether the path ends at a root oscillator (no loop, no missing source).
+    pub complete: bool,
+}
+
+/// One clock on a clock path.
+#[derive(Clone, Debug)]
+pub struct ClockStep {
+    /// Its name.
+    pub name: String,
+    /// Divider from its source (None for a root).
+    pub divide: Option<u64>,
+    /// Multiplier from its source (None for a root).
+    pub multiply: Option<u64>,
+    /// Its exact rate, if known.
+    pub rate: Option<Exact>,
+}
+
+impl ClockStep {
+    /// Whether this clock is a root oscillator.
+    pub fn is_root(&self) -> bool {
+        self.divide.is_none() && self.multiply.is_none()
+    }
+}
+
+/// The channel's sensor.
+#[derive(Clone, Debug)]
+pub struct SensorInfo {
+    /// The name the channel gives.
+    pub name: String,
+    /// Whether a sensor of that name exists.
+    pub found: bool,
+    /// Its `kind` text.
+    pub kind: Option<String>,
+    /// Its bandwidth in Hz.
+    pub bandwidth_hz: Option<f64>,
+    /// Its resonance: frequency in Hz and gain in dB.
+    pub resonance: Option<(f64, f64)>,
+}
+
+/// The channel's module.
+#[derive(Clone, Debug)]
+pub struct ModuleInfo {
+    /// The name the channel gives.
+    pub name: String,
+    /// Whether a module of that name exists.
+    pub found: bool,
+    /// ADC resolution.
+    pub adc_bits: Option<u32>,
+    /// Highest ADC rate in Hz.
+    pub max_rate_hz: Option<f64>,
+    /// The only ADC rates it supports, Hz.
+    pub rates_hz: Vec<f64>,
+}
+
+/// One filter of the chain.
+#[derive(Clone, Debug)]
+pub struct FilterInfo {
+    /// "sensor response", "channel filter", "module filter" or "decimation stage k".
+    pub place: String,
+    /// 0 for the sensor response and the ADC chain, k for the k-th decimation stage.
+    pub stage: usize,
+    /// The `response` keyword.
+    pub response: &'static str,
+    /// "4th-order Butterworth at 20 kHz" …
+    pub description: String,
+}
+
+/// The rate analysis of a resolved channel.
+#[derive(Clone, Debug)]
+pub struct Analysis {
+    /// The band B in Hz.
+    pub band_hz: f64,
+    /// Each rate change, the ADC first.
+    pub stages: Vec<StageInfo>,
+    /// Each disturbance that reaches the channel.
+    pub disturbances: Vec<DisturbanceInfo>,
+    /// Attenuation of the whole chain at the band edge.
+    pub passband: PassbandInfo,
+    /// Phase of the whole chain at the band edge, degrees.
+    pub phase_at_band_deg: f64,
+    /// The final rate after the last stage, Hz.
+    pub final_rate_hz: f64,
+    /// Final rate ÷ band.
+    pub final_ratio: f64,
+    /// The oversampling limit and whether the final ratio is within it.
+    pub oversampling: (f64, bool),
+    /// Final rate × sample bits ÷ 8.
+    pub data_rate_bytes_per_s: f64,
+}
+
+/// One rate change.
+#[derive(Clone, Debug)]
+pub struct StageInfo {
+    /// 0 for the ADC, k for the k-th decimation stage.
+    pub stage: usize,
+    /// Decimation factor (1 for the ADC).
+    pub factor: u32,
+    /// Input rate in Hz (None for the ADC).
+    pub input_rate_hz: Option<f64>,
+    /// Output rate, exact.
+    pub rate: Exact,
+    /// The stage's own filter (None for the ADC, or plain down-sampling).
+    pub filter: Option<String>,
+    /// Output rate ÷ band.
+    pub ratio: f64,
+    /// fs > 2·B.
+    pub nyquist_ok: bool,
+    /// The practical margin, and whether the ratio reaches it.
+    pub margin: (f64, bool),
+    /// False when an earlier rate change already fails `nyquist` (the rules stop there).
+    pub checked: bool,
+    /// The alias check at fs − B (None when fs ≤ 2·B or not checked).
+    pub alias: Option<AliasCheck>,
+    /// Where the sensor resonance goes at this rate change.
+    pub resonance: Option<ResonanceCheck>,
+}
+
+impl StageInfo {
+    /// Output rate in Hz.
+    pub fn rate_hz(&self) -> f64 {
+        to_f64(&self.rate)
+    }
+
+    /// "ADC" or "decimation stage k".
+    pub fn title(&self) -> String {
+        if self.stage == 0 {
+            "ADC".to_string()
+        } else {
+            format!("decimation stage {}", self.stage)
+        }
+    }
+}
+
+/// The check at the lowest folding frequency of one rate change.
+#[derive(Clone, Debug)]
+pub struct AliasCheck {
+    /// fs − B, Hz.
+    pub fold_from_hz: f64,
+    /// Attenuation of the chain up to this rate change there, dB (may be infinite).
+    pub attenuation_db: f64,
+    /// Each filter's share.
+    pub contributions: Vec<(String, f64)>,
+    /// Required rejection, dB.
+    pub required_db: f64,
+    /// attenuation ≥ required.
+    pub pass: bool,
+}
+
+/// Where the sensor resonance lands at one rate change.
+#[derive(Clone, Debug)]
+pub struct ResonanceCheck {
+    /// The resonance frequency, Hz.
+    pub frequency_hz: f64,
+    /// Its gain, dB.
+    pub gain_db: f64,
+    /// Where it sits before this rate change (after the earlier ones), Hz.
+    pub arrives_at_hz: f64,
+    /// Where it lands after this rate change, Hz.
+    pub lands_at_hz: f64,
+    /// It folds into the band at this rate change.
+    pub folds_into_band: bool,
+    /// Chain attenuation at the resonance up to this rate change, dB.
+    pub attenuation_db: f64,
+    /// Attenuation less the gain, dB.
+    pub net_db: f64,
+    /// Required rejection, dB.
+    pub required_db: f64,
+    /// Net ≥ required, when it folds into the band here and the stage is checked.
+    pub pass: Option<bool>,
+}
+
+/// A disturbance tone that reaches the channel.
+#[derive(Clone, Debug)]
+pub struct DisturbanceInfo {
+    /// Its name.
+    pub name: String,
+    /// Its frequency, Hz.
+    pub frequency_hz: f64,
+    /// How far it stands above broadband content, dB.
+    pub level_db: f64,
+    /// Required rejection plus level, dB.
+    pub required_db: f64,
+    /// Where it goes at each rate change, until it lands in the band.
+    pub steps: Vec<DisturbanceStep>,
+    /// What happens to it overall.
+    pub outcome: DisturbanceOutcome,
+}
+
+/// One rate change seen by a disturbance.
+#[derive(Clone, Debug)]
+pub struct DisturbanceStep {
+    /// 0 for the ADC, k for the k-th decimation stage.
+    pub stage: usize,
+    /// The output rate, Hz.
+    pub rate_hz: f64,
+    /// Where the tone sits before this rate change, Hz.
+    pub from_hz: f64,
+    /// Where it lands after it, Hz.
+    pub lands_at_hz: f64,
+    /// It lies above half the rate, so it folds.
+    pub folds: bool,
+    /// It lands inside [0, B].
+    pub in_band: bool,
+    /// Chain attenuation at the tone up to this rate change, dB.
+    pub attenuation_db: f64,
+}
+
+/// What happens to a disturbance.
+#[derive(Clone, Debug, PartialEq)]
+pub enum DisturbanceOutcome {
+    /// The tone lies inside the band itself: it is measured, not aliased.
+    InBand,
+    /// It folds into the band at this stage, with this verdict (attenuation ≥ required).
+    FoldsIn {
+        /// The rate change.
+        stage: usize,
+        /// attenuation ≥ required.
+        pass: bool,
+    },
+    /// It never lands in the band.
+    StaysOut,
+    /// The rate at this stage is not above twice the band (`nyquist`), so the tone is
+    /// not followed further.
+    NotChecked {
+        /// The rate change that fails `nyquist`.
+        stage: usize,
+    },
+}
+
+/// The chain's attenuation at the band edge.
+#[derive(Clone, Debug)]
+pub struct PassbandInfo {
+    /// dB.
+    pub attenuation_db: f64,
+    /// Each filter's share.
+    pub contributions: Vec<(String, f64)>,
+    /// The passband tolerance, dB.
+    pub tolerance_db: f64,
+    /// attenuation ≤ tolerance.
+    pub pass: bool,
+}
+
+/// One of the channel's findings.
+#[derive(Clone, Debug)]
+pub struct FindingInfo {
+    /// The rule.
+    pub rule: &'static str,
+    /// Its severity.
+    pub severity: Severity,
+    /// The file of its primary span.
+    pub file: String,
+    /// 1-based line.
+    pub line: usize,
+    /// 1-based column.
+    pub column: usize,
+    /// The message.
+    pub message: String,
+    /// The help line.
+    pub help: Option<String>,
+    /// The reason of the suppression that covers it.
+    pub suppressed: Option<String>,
+}
+
+/// An attenuation for labels: `11.97 dB`, `90 dB`, `> 300 dB`.
+pub fn db_text(db: f64) -> String {
+    crate::finding::format_db(db).replace(".00 dB", " dB")
+}
+
+/// A frequency for people: `48 kHz`, and the exact value when six significant digits
+/// cannot show it (`3.51086 MHz (exactly 24576000/7 Hz)`).
+pub fn rate_text(rate: &Exact) -> String {
+    let shown = format_hz(to_f64(rate));
+    match exact_suffix(rate) {
+        Some(exact) => format!("{shown} ({exact})"),
+        None => shown,
+    }
+}
+
+/// "exactly 24576000/7 Hz" when the six-digit form of `rate` is not exact.
+pub fn exact_suffix(rate: &Exact) -> Option<String> {
+    let shown = format_hz(to_f64(rate));
+    if quantity::parse(&shown, Kind::Frequency).is_ok_and(|back| back == *rate) {
+        return None;
+    }
+    Some(format!("exactly {} Hz", exact_string(rate)))
+}
+
+/// An exact rate as `N` or `N/D` (Hz).
+pub fn exact_string(rate: &Exact) -> String {
+    if rate.is_integer() {
+        rate.numer().to_string()
+    } else {
+        format!("{}/{}", rate.numer(), rate.denom())
+    }
+}
+
+fn position(sources: &Sources, span: Span) -> String {
+    let sf = sources.get(span.file);
+    let (line, col) = sf.line_col(span.start);
+    format!("{}:{line}:{col}", sf.display)
+}
+
+fn origin_text(origin: &Origin, sources: &Sources, settings_path: Option<&str>) -> String {
+    match origin {
+        Origin::Settings => match settings_path {
+            Some(p) => format!("the settings file {p}"),
+            None => origin.describe(),
+        },
+        Origin::Builtin => "the built-in default".to_string(),
+        other => match other.span() {
+            Some(span) => format!("{} at {}", other.describe(), position(sources, span)),
+            None => other.describe(),
+        },
+    }
+}
+
+/// Where energy at `f` sits after rate changes `0..=upto` (the digital-domain frequency).
+fn folded_through(chain: &Chain, f: f64, upto: usize) -> f64 {
+    chain
+        .changes
+        .iter()
+        .take(upto + 1)
+        .fold(f, |x, rc| fold(x, rc.fs_hz()))
+}
+
+fn channel_findings(
+    rig: &Rig,
+    ch: &RChannel,
+    sources: &Sources,
+    findings: &[Finding],
+) -> Vec<FindingInfo> {
+    let name = &ch.def.name.value;
+    // The channel's own item, and the parts it uses: a broken clock on its path, sensor
+    // or module explains why the channel does not resolve.
+    let mut items = vec![ch.def.item];
+    if let Some(k) = ch.clock {
+        items.extend(rig.clock_path(k).iter().map(|&i| rig.clocks[i].def.item));
+    }
+    items.extend(ch.sensor.map(|i| rig.sensors[i].item));
+    items.extend(ch.module.map(|i| rig.modules[i].item));
+    findings
+        .iter()
+        .filter(|f| {
+            f.channel.as_deref() == Some(name.as_str())
+                || (f.channel.is_none()
+                    && items
+                        .iter()
+                        .any(|it| it.file == f.primary.span.file && it.contains(&f.primary.span)))
+        })
+        .map(|f| {
+            let sf = sources.get(f.primary.span.file);
+            let (line, column) = sf.line_col(f.primary.span.start);
+            FindingInfo {
+                rule: f.rule,
+                severity: f.severity,
+                file: sf.display.clone(),
+                line,
+                column,
+                message: f.message.clone(),
+                help: f.help.clone(),
+                suppressed: f.suppressed.clone(),
+            }
+        })
+        .collect()
+}
+
+/// The filters of a channel's chain in signal order: the sensor's response, the ADC
+/// chain (the channel's or its module's), then each decimation stage's filter — the
+/// order in which [`Chain::contributions`] lists them.
+fn chain_filters(rig: &Rig, ch: &RChannel) -> Vec<FilterInfo> {
+    let mut filters = Vec::new();
+    if let Some(resp) = ch.sensor.and_then(|s| rig.sensors[s].response.as_ref()) {
+        filters.extend(
+            resp.value
+                .iter()
+                .map(|f| filter_info("sensor response", 0, f)),
+        );
+    }
+    let adc_place = match ch.filters_span {
+        Some((_, o)) if o.contains("module") => "module filter",
+        _ => "channel filter",
+    };
+    filters.extend(ch.filters.iter().map(|f| filter_info(adc_place, 0, f)));
+    for (k, st) in ch.def.decimate.iter().enumerate() {
+        if let Some(f) = &st.filter {
+            filters.push(filter_info(
+                &format!("decimation stage {}", k + 1),
+                k + 1,
+                f,
+            ));
+        }
+    }
+    filters
+}
+
+fn filter_info(place: &str, stage: usize, f: &Filter) -> FilterInfo {
+    FilterInfo {
+        place: place.to_string(),
+        stage,
+        response: f.response.keyword(),
+        description: f.response.describe(),
+    }
+}
+
+/// Work out what `inspect` shows for channel `ci` of `rig`. `settings` is the settings
+/// file that applies (its display path and thresholds), for saying where values come
+/// from.
+pub fn inspect(
+    rig: &Rig,
+    ci: usize,
+    sources: &Sources,
+    findings: &[Finding],
+    settings: &(Option<String>, ThresholdSettings),
+) -> Inspection {
+    let ch = &rig.channels[ci];
+    let (settings_path, set) = (settings.0.as_deref(), &settings.1);
+
+    let clock = ch.def.clock.as_ref().map(|c| match ch.clock {
+        Some(k) => {
+            let ids = rig.clock_path(k);
+            let path: Vec<ClockStep> = ids
+                .iter()
+                .map(|&i| {
+                    let rc = &rig.clocks[i];
+                    let (divide, multiply) = match &rc.def.def {
+                        ClockDef::Derived {
+                            divide, multiply, ..
+                        } => (
+                            Some(divide.as_ref().map_or(1, |d| d.value)),
+                            Some(multiply.as_ref().map_or(1, |m| m.value)),
+                        ),
+                        _ => (None, None),
+                    };
+                    ClockStep {
+                        name: rc.def.name.value.clone(),
+                        divide,
+                        multiply,
+                        rate: rc.rate,
+                    }
+                })
+                .collect();
+            let complete = ids
+                .first()
+                .is_some_and(|&r| matches!(rig.clocks[r].def.def, ClockDef::Root { .. }))
+                && rig.clocks[k].rate.is_some();
+            ClockInfo {
+                name: c.value.clone(),
+                found: true,
+                path,
+                complete,
+            }
+        }
+        None => ClockInfo {
+            name: c.value.clone(),
+            found: false,
+            path: Vec::new(),
+            complete: false,
+        },
+    });
+
+    let sensor = ch.def.sensor.as_ref().map(|s| {
+        let found = ch.sensor.map(|i| &rig.sensors[i]);
+        SensorInfo {
+            name: s.value.clone(),
+            found: found.is_some(),
+            kind: found.and_then(|s| s.kind.as_ref()).map(|k| k.value.clone()),
+            bandwidth_hz: found
+                .and_then(|s| s.bandwidth.as_ref())
+                .map(|b| to_f64(&b.value)),
+            resonance: found
+                .and_then(|s| s.resonance.as_ref())
+                .map(|r| (r.frequency.value, r.gain.value)),
+        }
+    });
+
+    let module = ch.def.module.as_ref().map(|m| {
+        let found = ch.module.map(|i| &rig.modules[i]);
+        ModuleInfo {
+            name: m.value.clone(),
+            found: found.is_some(),
+            adc_bits: found.and_then(|m| m.adc_bits.as_ref()).map(|b| b.value),
+            max_rate_hz: found
+                .and_then(|m| m.max_rate.as_ref())
+                .map(|r| to_f64(&r.value)),
+            rates_hz: found
+                .and_then(|m| m.rates.as_ref())
+                .map(|r| r.value.iter().map(|x| to_f64(&x.value)).collect())
+                .unwrap_or_default(),
+        }
+    });
+
+    let band = ch.band.as_ref().map(|b| Sourced {
+        value: to_f64(&b.hz),
+        what: if b.from_sensor {
+            "the sensor's `bandwidth`".to_string()
+        } else {
+            "the channel's `band`".to_string()
+        },
+        from: if b.from_sensor {
+            format!(
+                "the sensor's `bandwidth` at {} (the channel sets no `band`)",
+                position(sources, b.span)
+            )
+        } else {
+            format!("the channel's `band` at {}", position(sources, b.span))
+        },
+    });
+
+    let filters = chain_filters(rig, ch);
+    let filters_from = ch
+        .filters_span
+        .map(|(span, what)| format!("{what} at {}", position(sources, span)));
+    let filters_empty_override = ch.def.filters.as_ref().is_some_and(|f| f.value.is_empty());
+
+    let rejection = Sourced {
+        value: ch.rejection.0,
+        from: origin_text(&ch.rejection.1, sources, settings_path),
+        what: match &ch.rejection.1 {
+            Origin::Builtin => "the built-in default".to_string(),
+            other => other.describe(),
+        },
+    };
+
+    let t = &rig.thresholds;
+    let threshold_from = |key: &str, in_settings: bool| -> String {
+        match rig.threshold_spans.get(key) {
+            Some(span) => format!("the rig's `defaults.{key}` at {}", position(sources, *span)),
+            None if in_settings => match settings_path {
+                Some(p) => format!("the settings file {p}"),
+                None => "the settings file".to_string(),
+            },
+            None => "the built-in default".to_string(),
+        }
+    };
+    let thresholds = vec![
+        Threshold {
+            key: "margin",
+            json_key: "margin",
+            value: t.margin,
+            unit: "",
+            from: threshold_from("margin", set.margin.is_some()),
+        },
+        Threshold {
+            key: "passband-tolerance",
+            json_key: "passband_tolerance_db",
+            value: t.passband_tolerance,
+            unit: " dB",
+            from: threshold_from("passband-tolerance", set.passband_tolerance.is_some()),
+        },
+        Threshold {
+            key: "oversampling-limit",
+            json_key: "oversampling_limit",
+            value: t.oversampling_limit,
+            unit: "",
+            from: threshold_from("oversampling-limit", set.oversampling_limit.is_some()),
+        },
+        Threshold {
+            key: "phase-tolerance",
+            json_key: "phase_tolerance_deg",
+            value: t.phase_tolerance,
+            unit: " deg",
+            from: threshold_from("phase-tolerance", set.phase_tolerance.is_some()),
+        },
+    ];
+
+    let (analysis, no_analysis) = match analyse(rig, ci) {
+        Ok(a) => (Some(a), None),
+        Err(why) => (None, Some(why)),
+    };
+
+    Inspection {
+        file: sources.get(rig.file).display.clone(),
+        rig: rig.name.as_ref().map(|n| n.value.clone()),
+        channel: ch.def.name.value.clone(),
+        defined_at: position(sources, ch.def.name.span),
+        resolved: ch.ok,
+        clock,
+        sensor,
+        module,
+        band,
+        filters,
+        filters_from,
+        filters_empty_override,
+        rejection,
+        thresholds,
+        sample_bits: ch.sample_bits,
+        analysis,
+        no_analysis,
+        findings: channel_findings(rig, ch, sources, findings),
+    }
+}
+
+/// The rate analysis, mirroring what the rules check (and where they stop).
+fn analyse(rig: &Rig, ci: usize) -> Result<Analysis, String> {
+    let ch = &rig.channels[ci];
+    if !ch.ok {
+        return Err(
+            "the channel did not resolve (a reference names nothing, a clock has no rate, or a value is broken), so its rates are not analysed"
+                .to_string(),
+        );
+    }
+    let Some(band) = ch.band.as_ref() else {
+        return Err(
+            "the channel has no `band` and its sensor no `bandwidth`, so nothing can be checked"
+                .to_string(),
+        );
+    };
+    let Some(chain) = Chain::new(rig, ch) else {
+        return Err("the channel's clock rate is unknown".to_string());
+    };
+    let band = to_f64(&band.hz);
+    let required = ch.rejection.0;
+    let margin = rig.thresholds.margin;
+    let resonance = ch
+        .sensor
+        .and_then(|s| rig.sensors[s].resonance.as_ref())
+        .map(|r| (r.frequency.value, r.gain.value));
+    // Each filter's share, named by its place in the chain ("decimation stage 2: …").
+    let names = chain_filters(rig, ch);
+    let contributions = |f: f64, k: usize| -> Vec<(String, f64)> {
+        let list = chain.contributions(f, k);
+        let same_order = list.len() <= names.len();
+        list.into_iter()
+            .enumerate()
+            .map(|(i, c)| match names.get(i).filter(|_| same_order) {
+                Some(n) => (format!("{}: {}", n.place, n.description), c.db),
+                None => (c.what, c.db),
+            })
+            .collect()
+    };
+
+    let mut stages = Vec::new();
+    let mut nyquist_failed = false;
+    for rc in &chain.changes {
+        let fs = rc.fs_hz();
+        let k = rc.stage;
+        let checked = !nyquist_failed;
+        let nyquist_ok = fs > 2.0 * band;
+        let alias = (checked && nyquist_ok).then(|| {
+            let f = fs - band;
+            let a = chain.attenuation_db(f, k);
+            AliasCheck {
+                fold_from_hz: f,
+                attenuation_db: a,
+                contributions: contributions(f, k),
+                required_db: required,
+                pass: a >= required,
+            }
+        });
+        let res = resonance.map(|(fr, gain)| {
+            let before = if k == 0 {
+                fr
+            } else {
+                folded_through(&chain, fr, k - 1)
+            };
+            let after = fold(before, fs);
+            let folds_into_band = fr > band && before > band && after <= band;
+            let a = chain.attenuation_db(fr, k);
+            let net = a - gain;
+            ResonanceCheck {
+                frequency_hz: fr,
+                gain_db: gain,
+                arrives_at_hz: before,
+                lands_at_hz: after,
+                folds_into_band,
+                attenuation_db: a,
+                net_db: net,
+                required_db: required,
+                pass: (checked && nyquist_ok && folds_into_band).then_some(net >= required),
+            }
+        });
+        stages.push(StageInfo {
+            stage: k,
+            factor: rc.factor,
+            input_rate_hz: rc.fs_in.as_ref().map(to_f64),
+            rate: rc.fs,
+            filter: rc.filter.as_ref().map(|f| f.response.describe()),
+            ratio: fs / band,
+            nyquist_ok,
+            margin: (margin, fs >= margin * band),
+            checked,
+            alias,
+            resonance: res,
+        });
+        if !nyquist_ok {
+            nyquist_failed = true;
+        }
+    }
+
+    let mut disturbances = Vec::new();
+    for (di, d) in rig.disturbances.iter().enumerate() {
+        if !rig.disturbance_targets[di].contains(&ci) {
+            continue;
+        }
+        let Some(freq) = &d.frequency else { continue };
+        let fd = to_f64(&freq.value);
+        let level = d.level.as_ref().map_or(0.0, |l| l.value);
+        let req = required + level;
+        let mut steps = Vec::new();
+        let mut outcome = if fd <= band {
+            DisturbanceOutcome::InBand
+        } else {
+            DisturbanceOutcome::StaysOut
+        };
+        let mut at = fd;
+        if outcome != DisturbanceOutcome::InBand {
+            for rc in &chain.changes {
+                let fs = rc.fs_hz();
+                if fs <= 2.0 * band {
+                    // The rules stop here: nyquist reports the channel.
+                    outcome = DisturbanceOutcome::NotChecked { stage: rc.stage };
+                    break;
+                }
+                let folded = fold(at, fs);
+                let folds = at > fs / 2.0;
+                let in_band = folds && folded <= band;
+                let a = chain.attenuation_db(fd, rc.stage);
+                steps.push(DisturbanceStep {
+                    stage: rc.stage,
+                    rate_hz: fs,
+                    from_hz: at,
+                    lands_at_hz: folded,
+                    folds,
+                    in_band,
+                    attenuation_db: a,
+                });
+                if in_band {
+                    outcome = DisturbanceOutcome::FoldsIn {
+                        stage: rc.stage,
+                        pass: a >= req,
+                    };
+                    break;
+                }
+                at = folded;
+            }
+        }
+        disturbances.push(DisturbanceInfo {
+            name: d.name.value.clone(),
+            frequency_hz: fd,
+            level_db: level,
+            required_db: req,
+            steps,
+            outcome,
+        });
+    }
+
+    let last = chain.changes.len() - 1;
+    let droop = chain.attenuation_db(band, last);
+    let tolerance = rig.thresholds.passband_tolerance;
+    let final_rate = to_f64(&chain.final_rate());
+    let final_ratio = final_rate / band;
+    let limit = rig.thresholds.oversampling_limit;
+    Ok(Analysis {
+        band_hz: band,
+        stages,
+        disturbances,
+        passband: PassbandInfo {
+            attenuation_db: droop,
+            contributions: contributions(band, last),
+            tolerance_db: tolerance,
+            pass: droop <= tolerance + 1e-9,
+        },
+        phase_at_band_deg: chain.phase_deg(band),
+        final_rate_hz: final_rate,
+        final_ratio,
+        oversampling: (limit, final_ratio <= limit),
+        data_rate_bytes_per_s: final_rate * f64::from(ch.sample_bits) / 8.0,
+    })
+}
+
+/// What the plot shows, worked out here so that [`plot`] only draws.
+pub fn plot_data(rig: &Rig, ci: usize, ins: &Inspection) -> Option<plot::PlotData> {
+    let a = ins.analysis.as_ref()?;
+    let ch = &rig.channels[ci];
+    let chain = Chain::new(rig, ch)?;
+    let band = a.band_hz;
+    let fs0 = a.stages[0].rate_hz();
+    let required = ins.rejection.value;
+
+    // Markers that want to be on the plot.
+    let mut wanted: Vec<f64> = Vec::new();
+    if let Some((fr, _)) = ins.sensor.as_ref().and_then(|s| s.resonance) {
+        wanted.push(fr);
+    }
+    wanted.extend(a.disturbances.iter().map(|d| d.frequency_hz));
+    let f_min = band / 20.0;
+    let cap = 100.0 * fs0;
+    let mut f_max = 3.5 * fs0;
+    for &f in &wanted {
+        if f > f_max && f <= cap {
+            f_max = f * 1.3;
+        }
+    }
+
+    // Curves: the chain up to the ADC, and the whole chain when a stage has a filter.
+    let last = chain.changes.len() - 1;
+    let stage_filters = chain.changes.iter().any(|rc| rc.filter.is_some());
+    let mut xs = plot::log_points(f_min, f_max, 900);
+    let mut exact_points = vec![band];
+    exact_points.extend(a.stages.iter().map(|s| s.rate_hz() - band));
+    exact_points.extend(wanted.iter().copied());
+    for p in exact_points {
+        if p > f_min && p < f_max {
+            xs.push(p);
+        }
+    }
+    xs.sort_by(f64::total_cmp);
+    xs.dedup();
+    let adc_label = if chain.has_analog_filter() {
+        "chain up to the ADC (sensor response and the ADC's filters)".to_string()
+    } else {
+        "chain up to the ADC: no filter (0 dB everywhere)".to_string()
+    };
+    let mut curves = vec![plot::Curve {
+        label: adc_label,
+        points: xs
+            .iter()
+            .map(|&f| (f, chain.attenuation_db(f, 0)))
+            .collect(),
+        full_chain: false,
+    }];
+    if last > 0 && stage_filters {
+        curves.push(plot::Curve {
+            label: "whole chain, with the decimation filters".to_string(),
+            points: xs
+                .iter()
+                .map(|&f| (f, chain.attenuation_db(f, last)))
+                .collect(),
+            full_chain: true,
+        });
+    }
+
+    let mut markers = Vec::new();
+    let stages_named = a.stages.len() > 1;
+    for s in &a.stages {
+        let name = match (s.stage, stages_named) {
+            (0, false) => "fs − B".to_string(),
+            (0, true) => "ADC: fs − B".to_string(),
+            (k, _) => format!("stage {k}: fs − B"),
+        };
+        if let Some(al) = &s.alias {
+            markers.push(plot::Marker {
+                kind: plot::MarkerKind::Fold,
+                frequency_hz: al.fold_from_hz,
+                attenuation_db: al.attenuation_db,
+                label: format!(
+                    "{name} = {}: {}",
+                    format_hz(al.fold_from_hz),
+                    crate::finding::format_db(al.attenuation_db)
+                ),
+                pass: Some(al.pass),
+                required_db: None,
+            });
+        } else if s.checked && !s.nyquist_ok && s.rate_hz() > band {
+            // The band folds onto itself: fs − B lies inside it.
+            let f = s.rate_hz() - band;
+            markers.push(plot::Marker {
+                kind: plot::MarkerKind::Fold,
+                frequency_hz: f,
+                attenuation_db: chain.attenuation_db(f, s.stage),
+                label: format!("{name} = {}: inside the band", format_hz(f)),
+                pass: Some(false),
+                required_db: None,
+            });
+        }
+    }
+    if let Some((fr, gain)) = ins.sensor.as_ref().and_then(|s| s.resonance) {
+        // The rate change where the resonance folds into the band, else the ADC.
+        let folding = a
+            .stages
+            .iter()
+            .filter_map(|s| s.resonance.as_ref())
+            .find(|r| r.folds_into_band);
+        let r = folding.or_else(|| a.stages[0].resonance.as_ref());
+        if let Some(r) = r {
+            let lands = if r.folds_into_band {
+                format!(" → {}", format_hz(r.lands_at_hz))
+            } else {
+                String::new()
+            };
+            markers.push(plot::Marker {
+                kind: plot::MarkerKind::Resonance,
+                frequency_hz: fr,
+                attenuation_db: r.net_db,
+                label: format!(
+                    "resonance {} (+{} dB){lands}: net {}",
+                    format_hz(fr),
+                    quantity::sig6(gain),
+                    crate::finding::format_db(r.net_db)
+                ),
+                pass: r.pass,
+                required_db: None,
+            });
+        }
+    }
+    for d in &a.disturbances {
+        let (label, att, pass, req) = match &d.outcome {
+            DisturbanceOutcome::FoldsIn { stage, pass } => {
+                let st = d.steps.iter().find(|s| s.stage == *stage);
+                let att = st.map_or(0.0, |s| s.attenuation_db);
+                (
+                    format!(
+                        "{} {} → {}: {}, needs {}",
+                        d.name,
+                        format_hz(d.frequency_hz),
+                        format_hz(st.map_or(0.0, |s| s.lands_at_hz)),
+                        crate::finding::format_db(att),
+                        db_text(d.required_db)
+                    ),
+                    att,
+                    Some(*pass),
+                    Some(d.required_db),
+                )
+            }
+            DisturbanceOutcome::InBand => (
+                format!("{} {} (in the band)", d.name, format_hz(d.frequency_hz)),
+                chain.attenuation_db(d.frequency_hz, 0),
+                None,
+                None,
+            ),
+            DisturbanceOutcome::StaysOut | DisturbanceOutcome::NotChecked { .. } => (
+                format!("{} {}", d.name, format_hz(d.frequency_hz)),
+                chain.attenuation_db(d.frequency_hz, 0),
+                None,
+                None,
+            ),
+        };
+        markers.push(plot::Marker {
+            kind: plot::MarkerKind::Disturbance,
+            frequency_hz: d.frequency_hz,
+            attenuation_db: att,
+            label,
+            pass,
+            required_db: req,
+        });
+    }
+    let notes: Vec<String> = markers
+        .iter()
+        .filter(|m| m.frequency_hz < f_min || m.frequency_hz > f_max)
+        .map(|m| format!("{}: outside the plotted range", m.label))
+        .collect();
+    markers.retain(|m| m.frequency_hz >= f_min && m.frequency_hz <= f_max);
+
+    // Images of the band around multiples of the ADC rate.
+    let mut images = Vec::new();
+    let mut k = 1u32;
+    while f64::from(k) * fs0 - band < f_max && k <= 200 {
+        let c = f64::from(k) * fs0;
+        images.push(plot::Image {
+            low_hz: (c - band).max(f_min),
+            high_hz: (c + band).min(f_max),
+            // The first few carry a label; the legend explains the rest.
+            label: match k {
+                1 => "fs ± B".to_string(),
+                2..=3 => format!("{k}fs ± B"),
+                _ => String::new(),
+            },
+        });
+        k += 1;
+    }
+
+    let rig_name = ins.rig.as_deref().unwrap_or("rig");
+    let mut subtitle = format!("ADC {}", format_hz(fs0));
+    if last > 0 {
+        subtitle.push_str(&format!(
+            ", {} after {} decimation stage{}",
+            format_hz(a.final_rate_hz),
+            last,
+            if last == 1 { "" } else { "s" }
+        ));
+    }
+    subtitle.push_str(&format!(
+        " · band {} · required rejection {}",
+        format_hz(band),
+        db_text(required)
+    ));
+    Some(plot::PlotData {
+        title: format!("{rig_name} / {}", ins.channel),
+        subtitle,
+        f_min,
+        f_max,
+        band_hz: band,
+        band_label: format!("band 0 – {}", format_hz(band)),
+        required_db: required,
+        required_label: format!(
+            "required rejection {} ({})",
+            db_text(required),
+            ins.rejection.what
+        ),
+        curves,
+        markers,
+        images,
+        notes,
+    })
+}
