@@ -516,7 +516,10 @@ fn the_readme_settings_example_is_valid_under_the_settings_schema_and_loads() {
     let json = serde_json::to_value(&value).unwrap();
     let schema: Value = serde_json::from_str(foldcheck::settings::SETTINGS_SCHEMA).unwrap();
     let validator = jsonschema::draft202012::new(&schema).unwrap();
-    let errors: Vec<String> = validator.iter_errors(&json).map(|e| e.to_string()).collect();
+    let errors: Vec<String> = validator
+        .iter_errors(&json)
+        .map(|e| e.to_string())
+        .collect();
     assert!(errors.is_empty(), "{errors:?}");
     let s = foldcheck::settings::parse(Path::new("foldcheck.toml"), text).unwrap();
     assert_eq!(s.thresholds.margin, Some(2.56));
