@@ -534,15 +534,6 @@ fn origin_text(origin: &Origin, sources: &Sources, settings_path: Option<&str>) 
     }
 }
 
-/// Where energy at `f` sits after rate changes `0..=upto` (the digital-domain frequency).
-fn folded_through(chain: &Chain, f: f64, upto: usize) -> f64 {
-    chain
-        .changes
-        .iter()
-        .take(upto + 1)
-        .fold(f, |x, rc| fold(x, rc.fs_hz()))
-}
-
 fn channel_findings(
     rig: &Rig,
     ch: &RChannel,
@@ -871,7 +862,7 @@ fn analyse(rig: &Rig, ci: usize) -> Result<Analysis, String> {
             let before = if k == 0 {
                 fr
             } else {
-                folded_through(&chain, fr, k - 1)
+                chain.folded_through(fr, k - 1)
             };
             let after = fold(before, fs);
             let folds_into_band = fr > band && before > band && after <= band;

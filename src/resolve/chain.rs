@@ -236,6 +236,15 @@ impl<'a> Chain<'a> {
             .sum()
     }
 
+    /// Where energy at `f` Hz sits after rate changes `0..=upto`: the digital-domain
+    /// frequency, folded at every rate change in turn.
+    pub fn folded_through(&self, f: f64, upto: usize) -> f64 {
+        self.changes
+            .iter()
+            .take(upto + 1)
+            .fold(f, |x, rc| crate::signal::fold::fold(x, rc.fs_hz()))
+    }
+
     /// Whether the chain has any filter that attenuates before the ADC.
     pub fn has_analog_filter(&self) -> bool {
         !self.filters_upto(0, None).is_empty()

@@ -4,7 +4,7 @@ use super::rates::{help_for, rate_channels, rate_labels};
 use super::{Rule, Stage};
 use crate::finding::{Finding, Label, Severity, format_db, round_to};
 use crate::model::quantity::format_hz;
-use crate::resolve::chain::{Chain, RateChange};
+use crate::resolve::chain::RateChange;
 use crate::resolve::{Origin, Rig};
 use crate::signal::fold::fold;
 
@@ -60,15 +60,6 @@ struct Shortfall<'c> {
     resonance: Option<(f64, f64)>,
 }
 
-/// Where a frequency sits after each rate change (the digital-domain frequency).
-fn folded_through(chain: &Chain, f: f64, upto: usize) -> f64 {
-    chain
-        .changes
-        .iter()
-        .take(upto + 1)
-        .fold(f, |x, rc| fold(x, rc.fs_hz()))
-}
-
 fn check(rig: &Rig, out: &mut Vec<Finding>) {
     for (_, chain, band) in rate_channels(rig) {
         let ch = chain.channel;
@@ -94,7 +85,7 @@ fn check(rig: &Rig, out: &mut Vec<Finding>) {
                 let before = if k == 0 {
                     fr
                 } else {
-                    folded_through(&chain, fr, k - 1)
+                    chain.folded_through(fr, k - 1)
                 };
                 let after = fold(before, fs);
                 if fr > band && before > band && after <= band {
