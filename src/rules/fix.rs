@@ -273,10 +273,16 @@ pub fn stage_help(
     // The largest factor that can still reach the lowest acceptable rate.
     let lowest = (margin * band).max(2.0 * band);
     let start = ((fin / lowest).floor() as u64).min(u64::from(ch.factor) - 1) as u32;
-    let best = (1..=start)
-        .rev()
-        .take(DIVIDER_TRIES as usize)
-        .find(|&nf| rate_is_good(chain, stage, fin / nf as f64, band, margin, required));
+    // Later stages divide further; the final rate must stay within the oversampling limit.
+    let later: f64 = chain.changes[stage + 1..]
+        .iter()
+        .map(|rc| f64::from(rc.factor))
+        .product();
+    let limit = chain.rig.thresholds.oversampling_limit * band;
+    let best = (1..=start).rev().take(DIVIDER_TRIES as usize).find(|&nf| {
+        let fs = fin / nf as f64;
+        fs / later <= limit && rate_is_good(chain, stage, fs, band, margin, required)
+    });
     let mut parts = Vec::new();
     match best {
         Some(1) => parts.push(format!(

@@ -428,9 +428,9 @@ fn check_oversampling(rig: &Rig, out: &mut Vec<Finding>) {
         let ch = chain.channel;
         let name = &ch.def.name.value;
         let target = limit * band;
-        let factor = (fs / (rig.thresholds.margin.max(2.5) * band))
-            .floor()
-            .max(2.0) as u64;
+        // Decimating by at least `least` reaches the limit; by at most `most` keeps the margin.
+        let least = (fs / target).ceil().max(2.0) as u64;
+        let most = (fs / (rig.thresholds.margin * band)).floor().max(2.0) as u64;
         let mut f = OVERSAMPLING
             .finding(
                 last.span,
@@ -454,7 +454,7 @@ fn check_oversampling(rig: &Rig, out: &mut Vec<Finding>) {
         }
         out.push(
             f.with_help(format!(
-                "decimate by up to {factor} (with a filter) or divide the clock down: {} or less is enough",
+                "decimate (with a filter) by {least} to {most}, or divide the clock down: a final rate of {} or less is within the limit",
                 format_hz(target)
             ))
             .with_f64("rate_hz", fs)
