@@ -151,6 +151,10 @@ fn check(rig: &Rig, out: &mut Vec<Finding>) {
                     format_hz(w.fold_from)
                 ),
             )),
+            (Some((span, _)), 0) => f.secondary.push(Label::new(
+                *span,
+                "no filters: nothing attenuates before the ADC",
+            )),
             (_, 0) => f.secondary.push(Label::new(
                 ch.def.name.span,
                 "no anti-alias filter on this channel",

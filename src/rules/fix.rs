@@ -227,7 +227,8 @@ fn filter_help(chain: &Chain, f: f64, band: f64, required_db: f64) -> Option<Str
                 ));
             }
             for order in a.order..=12 {
-                if let Some(cut) = design::max_cutoff_for(a.kind, order, f, required_db)
+                if let Some(cut) =
+                    design::max_cutoff_for(a.kind, order, f, required_db).map(round_cutoff)
                     && droop_ok(a.kind, order, cut)
                 {
                     return Some(format!(
@@ -243,7 +244,8 @@ fn filter_help(chain: &Chain, f: f64, band: f64, required_db: f64) -> Option<Str
         None => {
             let kind = crate::signal::analog::AnalogKind::Butterworth;
             for order in 2..=12 {
-                if let Some(cut) = design::max_cutoff_for(kind, order, f, required_db)
+                if let Some(cut) =
+                    design::max_cutoff_for(kind, order, f, required_db).map(round_cutoff)
                     && droop_ok(kind, order, cut)
                 {
                     return Some(format!(
@@ -257,6 +259,16 @@ fn filter_help(chain: &Chain, f: f64, band: f64, required_db: f64) -> Option<Str
             Some("the channel has no anti-alias filter, and no Butterworth of order 12 or less meets the rejection without drooping the band; sample faster".to_string())
         }
     }
+}
+
+/// A suggested cutoff rounded down to three significant digits (a lower cutoff only
+/// attenuates more; the droop is checked after rounding).
+fn round_cutoff(hz: f64) -> f64 {
+    if !(hz.is_finite() && hz > 0.0) {
+        return hz;
+    }
+    let p = 10f64.powi(hz.log10().floor() as i32 - 2);
+    (hz / p).floor() * p
 }
 
 /// Help for a problem at decimation stage `stage` (≥ 1).
