@@ -34,6 +34,13 @@ pub fn run(command: Command) -> Outcome {
                 progress: std::io::stderr().is_terminal(),
             };
             let out = campaign::run(&paths, &opts).map_err(|e| fatal(&e))?;
+            if out.files == 0 {
+                // Not an error (an empty campaign is clean), but worth saying: a wrong
+                // directory would otherwise look like a clean one.
+                eprintln!(
+                    "foldcheck: no rig files (*.rig.yaml, *.rig.yml) found in the given paths"
+                );
+            }
             let text = match format {
                 CheckFormat::Human => human::render(
                     &out.sources,

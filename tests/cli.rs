@@ -528,3 +528,15 @@ fn the_readme_settings_example_is_valid_under_the_settings_schema_and_loads() {
     let bad = serde_json::json!({ "rules": { "nyquist": "loud" } });
     assert!(!validator.is_valid(&bad));
 }
+
+#[test]
+fn an_empty_directory_is_clean_but_says_so() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = run_in(dir.path(), &["check", "."]);
+    assert_eq!(out.status.code(), Some(0));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("no rig files"));
+    assert!(
+        String::from_utf8_lossy(&out.stdout)
+            .starts_with("0 errors, 0 warnings, 0 notes in 0 files")
+    );
+}

@@ -204,6 +204,13 @@ fn clean_message(raw: &str) -> String {
         _ => msg,
     };
     let msg = msg.trim_end_matches('.');
+    if msg.contains("budget breached: Documents") {
+        return "the file holds more than one YAML document; a rig or catalog file is one document"
+            .to_string();
+    }
+    if msg.starts_with("recursive references") {
+        return "an alias refers to a node that contains it (a recursive alias)".to_string();
+    }
     if msg.starts_with("budget breached") {
         return format!("the document is too large or too deeply nested to read safely ({msg})");
     }
@@ -385,6 +392,18 @@ mod tests {
         let e = parse_str(text).unwrap_err();
         assert_eq!(e.span.start, 10);
         assert!(e.message.contains("duplicate"), "{}", e.message);
+    }
+
+    #[test]
+    fn several_documents_and_recursive_aliases_get_plain_messages() {
+        let e = parse_str("format: 1\n---\nformat: 1\n").unwrap_err();
+        assert!(
+            e.message.contains("more than one YAML document"),
+            "{}",
+            e.message
+        );
+        let e = parse_str("&a [*a]\n").unwrap_err();
+        assert!(e.message.contains("recursive alias"), "{}", e.message);
     }
 
     #[test]
