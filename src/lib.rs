@@ -1,3 +1,4 @@
+#![warn(missing_docs)]
 //! foldcheck: a linter for the configuration files of data-acquisition rigs.
 //!
 //! The pipeline runs one way: source → YAML tree with spans ([`source`]) → typed rig
