@@ -11,7 +11,11 @@ channel, and recomputes independently:
 - the lowest folding frequency fs − B (SPEC §5),
 - the chain's attenuation there and at the band edge, and its phase at the band edge,
   from scipy.signal.butter / cheby1 / bessel(norm='mag') with analog=True and freqs
-  (phase unwrapped with numpy from DC on a dense grid).
+  (phase unwrapped with numpy from DC on a dense grid),
+- for channels with a sinc (CIC) decimation stage: the stage's rate, its fs − B, and the
+  attenuation there: the analog chain plus the CIC, the latter as N cascaded M-tap moving
+  averages evaluated with scipy.signal.freqz at the stage's input rate (E. Hogenauer,
+  IEEE Trans. ASSP 29, 1981, from memory).
 
 Usage: chain_oracle.py PATH/TO/foldcheck [--channels N] [--seed S]
 Exits 1 on any mismatch (0.01 dB, 0.1 deg, exact rates).
@@ -61,6 +65,16 @@ def phase_deg(filters, f):
     return total
 
 
+def cic_db(order, factor, fin, f):
+    h = np.ones(factor) / factor
+    taps = np.array([1.0])
+    for _ in range(order):
+        taps = np.convolve(taps, h)
+    _, resp = signal.freqz(taps, worN=[f], fs=fin)
+    mag = abs(resp[0])
+    return math.inf if mag == 0 else -20 * math.log10(mag)
+
+
 def yaml_filter(kind, order, cutoff, ripple):
     extra = f", ripple: {ripple} dB" if kind == "chebyshev" else ""
     return f"{{ response: {kind}, order: {order}, cutoff: {cutoff} Hz{extra} }}"
@@ -82,8 +96,11 @@ def make_channel(rng, i):
     sensor = None
     if rng.random() < 0.3:
         sensor = ("butterworth", rng.randint(1, 3), round(band * rng.uniform(2.0, 6.0), 3), None)
+    stage = None
+    if rng.random() < 0.4:
+        stage = (rng.randint(2, 8), rng.randint(1, 5))  # (factor M, order N)
     return dict(name=f"ch-{i:03d}", root_text=root_text, root=root, divide=divide, fs=fs,
-                band=band, filters=filters, sensor=sensor)
+                band=band, filters=filters, sensor=sensor, stage=stage)
 
 
 def rig_text(channels):
@@ -100,7 +117,11 @@ def rig_text(channels):
     for c in channels:
         sensor = f"{c['name']}-sensor" if c["sensor"] else "plain"
         fl = ", ".join(yaml_filter(*f) for f in c["filters"])
-        lines.append(f"  - {{ name: {c['name']}, clock: {c['name']}-clk, sensor: {sensor}, band: {c['band']} Hz, filters: [{fl}] }}")
+        dec = ""
+        if c["stage"]:
+            m, n = c["stage"]
+            dec = f", decimate: [{{ factor: {m}, filter: {{ response: sinc, order: {n} }} }}]"
+        lines.append(f"  - {{ name: {c['name']}, clock: {c['name']}-clk, sensor: {sensor}, band: {c['band']} Hz, filters: [{fl}]{dec} }}")
     return "\n".join(lines) + "\n"
 
 
@@ -113,6 +134,7 @@ def main():
     rng = random.Random(args.seed)
     channels = [make_channel(rng, i) for i in range(args.channels)]
     failures = []
+    counts = {"adc alias": 0, "stage alias": 0}
     with tempfile.TemporaryDirectory() as tmp:
         path = os.path.join(tmp, "oracle.rig.yaml")
         with open(path, "w") as f:
@@ -142,13 +164,39 @@ def main():
             if a0["alias"] is not None:
                 f_alias = fs - band
                 check("fold_from", a0["alias"]["fold_from_hz"], f_alias, 1e-6 * fs)
+                counts["adc alias"] += 1
                 want = attenuation_db(chain, f_alias)
                 check("attenuation at fs-B (dB)", a0["alias"]["attenuation_db"], want, 0.01 + 1e-6 * want)
             pb = r["analysis"]["passband"]
-            check("attenuation at B (dB)", pb["attenuation_db"], attenuation_db(chain, band), 0.01)
+            want_pb = attenuation_db(chain, band)
+            if c["stage"]:
+                m, n = c["stage"]
+                want_pb += cic_db(n, m, fs, band)
+                a1 = r["analysis"]["rate_changes"][1]
+                fs1 = fs / m
+                check("stage 1 rate", a1["rate_hz"], fs1, 1e-9 * fs1)
+                stage_checked = a0["nyquist"] and fs1 > 2 * band
+                if stage_checked:
+                    if a1["alias"] is None:
+                        failures.append(f"{c['name']}: stage 1 alias not checked at fs1/B = {fs1 / band}")
+                    else:
+                        counts["stage alias"] += 1
+                        f1 = fs1 - band
+                        check("stage 1 fold_from", a1["alias"]["fold_from_hz"], f1, 1e-6 * fs1)
+                        want = attenuation_db(chain, f1) + cic_db(n, m, fs, f1)
+                        got = a1["alias"]["attenuation_db"]
+                        if not (want > 300 and got >= 299.999):
+                            check("stage 1 attenuation at fs-B (dB)", got, want, 0.01 + 1e-6 * want)
+                elif a0["nyquist"] and a1["nyquist"]:
+                    failures.append(f"{c['name']}: stage 1 nyquist verdict at fs1/B = {fs1 / band}")
+            check("attenuation at B (dB)", pb["attenuation_db"], want_pb, 0.01)
             check("phase at B (deg)", r["analysis"]["phase_at_band_deg"], phase_deg(chain, band), 0.1)
-    print(f"{len(channels)} channels checked against scipy {__import__('scipy').__version__}: "
+    print(f"{len(channels)} channels checked against scipy {__import__('scipy').__version__} "
+          f"({counts['adc alias']} ADC folds, {counts['stage alias']} decimation-stage folds): "
           f"{len(failures)} mismatches")
+    if counts["adc alias"] == 0 or counts["stage alias"] == 0:
+        print("  the random rigs exercised too little: change the seed or the channel count")
+        failures.append("coverage")
     for f in failures[:40]:
         print("  " + f)
     sys.exit(1 if failures else 0)
