@@ -634,3 +634,26 @@ fn no_syntax_message_carries_a_position() {
     let (_, _, _, message) = only_finding(&dir, "t.rig.yaml", &[]);
     assert!(!message.contains("line"), "{message}");
 }
+
+#[test]
+fn million_digit_quantity_is_answered_in_one_pass() {
+    // Regression: the quantity parser tried every prefix of the value (quadratic: 20 000
+    // digits took 35 s, a million would take days).
+    let dir = scratch("long-number");
+    let text = format!(
+        "format: 1\nrig: a\nclocks:\n  - name: osc\n    frequency: {} Hz\n",
+        "1".repeat(1_000_000)
+    );
+    write(&dir, "long.rig.yaml", text);
+    let found = findings_of(&dir, "long.rig.yaml", &[]);
+    assert_eq!(
+        found.iter().find(|f| f.0 == "quantity").cloned(),
+        Some(one(
+            "quantity",
+            5,
+            16,
+            "`111111111111111111111111…111111111 Hz` is out of the range this tool can represent exactly as a frequency"
+        )),
+        "{found:?}"
+    );
+}
