@@ -171,9 +171,27 @@ pub struct Rig {
     pub disturbance_targets: Vec<Vec<usize>>,
     /// Logger limits.
     pub logger: Option<Logger>,
+    /// How many channels sample on each clock or a clock derived from it, worked out
+    /// once on first use (help text asks it for every finding).
+    channels_under_counts: std::sync::OnceLock<Vec<usize>>,
 }
 
 impl Rig {
+    /// How many channels sample on `clock` or on a clock derived from it: the length of
+    /// [`Rig::channels_under`], in constant time after the first call.
+    pub fn channels_under_count(&self, clock: usize) -> usize {
+        let counts = self.channels_under_counts.get_or_init(|| {
+            let mut counts = vec![0; self.clocks.len()];
+            for k in self.channels.iter().filter_map(|c| c.clock) {
+                for i in self.clock_path(k) {
+                    counts[i] += 1;
+                }
+            }
+            counts
+        });
+        counts.get(clock).copied().unwrap_or(0)
+    }
+
     /// The clock path from the root to `clock` (inclusive), root first.
     pub fn clock_path(&self, clock: usize) -> Vec<usize> {
         let mut path = vec![clock];
@@ -520,6 +538,7 @@ pub fn resolve(docs: &[&Document], settings: &ThresholdSettings) -> (Rig, Vec<Fi
         disturbances,
         disturbance_targets,
         logger: rig_doc.logger.clone(),
+        channels_under_counts: std::sync::OnceLock::new(),
     };
     (rig, out)
 }

@@ -102,7 +102,7 @@ pub fn adc_help(
             .find(|&nd| good(&(base / Exact::from_integer(nd as i128))));
         if let Some(nd) = best {
             let rate = base / Exact::from_integer(nd as i128);
-            let sharing = rig.channels_under(clock).len().saturating_sub(1);
+            let sharing = rig.channels_under_count(clock).saturating_sub(1);
             parts.push(format!(
                 "divide `{}` by {nd} instead of {d} in clock `{}` to sample at {} ({})",
                 source.value,
