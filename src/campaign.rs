@@ -104,6 +104,16 @@ struct Ctx {
     max_file_bytes: u64,
 }
 
+impl Ctx {
+    fn new(max_file_bytes: u64) -> Self {
+        Ctx {
+            sources: Mutex::new(Sources::new()),
+            catalogs: Mutex::new(HashMap::new()),
+            max_file_bytes,
+        }
+    }
+}
+
 /// A rig file to lint, with its campaign root and settings.
 struct Job {
     path: PathBuf,
@@ -118,11 +128,7 @@ struct Job {
 /// Lint the given paths (files and directories).
 pub fn run(paths: &[PathBuf], opts: &Options) -> Result<Outcome, Fatal> {
     let jobs = discover(paths, opts)?;
-    let ctx = Ctx {
-        sources: Mutex::new(Sources::new()),
-        catalogs: Mutex::new(HashMap::new()),
-        max_file_bytes: opts.max_file_bytes,
-    };
+    let ctx = Ctx::new(opts.max_file_bytes);
     let done = std::sync::atomic::AtomicUsize::new(0);
     let total = jobs.len();
     let show = opts.progress && total >= PROGRESS_FROM;
@@ -140,14 +146,47 @@ pub fn run(paths: &[PathBuf], opts: &Options) -> Result<Outcome, Fatal> {
     if show {
         eprint!("\r{}\r", " ".repeat(40));
     }
+    let results = results.into_iter().collect::<Result<Vec<_>, _>>()?;
+    Ok(finish(ctx, results, jobs.len()))
+}
 
+/// Lint one rig held in memory as if it were the file `name`: exactly the stages a rig
+/// file goes through (YAML, schema and quantities, includes, resolution, every rule,
+/// default settings, suppressions, sorting). Includes are read from the file system
+/// relative to `name`, and may not leave `name`'s directory.
+pub fn lint_text(name: &str, text: &str) -> (Sources, Vec<Finding>) {
+    let path = PathBuf::from(name);
+    let dir = path
+        .parent()
+        .filter(|d| !d.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    let job = Job {
+        display: display(&path),
+        path: path.clone(),
+        root: absolute(dir),
+        settings: Arc::new(Settings::default()),
+        role: Role::Rig,
+    };
+    let ctx = Ctx::new(DEFAULT_MAX_FILE_BYTES);
+    let file = ctx.sources.lock().expect("no thread panicked").add(
+        &job.path,
+        job.display.clone(),
+        text.to_string(),
+    );
+    let loaded = load_added(&ctx, file, Role::Rig);
+    let result = lint_loaded(&ctx, &job, false, loaded);
+    let out = finish(ctx, vec![result], 1);
+    (out.sources, out.findings)
+}
+
+/// Gather the rigs' findings, apply settings levels and suppressions, and sort.
+fn finish(ctx: Ctx, results: Vec<RigResult>, files: usize) -> Outcome {
     let mut findings = Vec::new();
     let mut suppressions: Vec<Suppression> = Vec::new();
     let mut channels = 0;
     let mut rigs = Vec::new();
     let mut file_settings: HashMap<FileId, Arc<Settings>> = HashMap::new();
-    for r in results {
-        let (loaded, f, n, rig, settings) = r?;
+    for (loaded, f, n, rig, settings) in results {
         file_settings.insert(loaded.file, settings);
         findings.extend(loaded.findings);
         findings.extend(f);
@@ -193,13 +232,13 @@ pub fn run(paths: &[PathBuf], opts: &Options) -> Result<Outcome, Fatal> {
             .display
             .cmp(&sources.get(b.file).display)
     });
-    Ok(Outcome {
+    Outcome {
         sources,
-        files: jobs.len(),
+        files,
         channels,
         findings,
         rigs,
-    })
+    }
 }
 
 /// Sort findings by file path, line, column and rule (the output order).
@@ -267,12 +306,18 @@ fn discover(paths: &[PathBuf], opts: &Options) -> Result<Vec<Job>, Fatal> {
                 if !(name.ends_with(".rig.yaml") || name.ends_with(".rig.yml")) {
                     continue;
                 }
-                if !entry.file_type().is_some_and(|t| t.is_file()) {
+                // Directories are walked; symbolic links are not followed by the walk,
+                // so a link named like a rig is linted through its target. Anything
+                // else (a named pipe, a broken link) is linted too, and reading it fails
+                // with a clear error instead of the file being skipped in silence.
+                if entry.file_type().is_some_and(|t| t.is_dir())
+                    || std::fs::metadata(path).is_ok_and(|m| m.is_dir())
+                {
                     continue;
                 }
                 let dir = path.parent().unwrap_or(Path::new("."));
                 let (root, s) = settings_for(dir, p)?;
-                if excluded(&s, &root, path) || !seen.insert(absolute(path)) {
+                if excluded(&s, &root, path) || !seen.insert(identity(path)) {
                     continue;
                 }
                 jobs.push(Job {
@@ -308,7 +353,7 @@ fn discover(paths: &[PathBuf], opts: &Options) -> Result<Vec<Job>, Fatal> {
                 };
                 let deps = dependents(&search, &absolute(p));
                 if deps.is_empty() {
-                    if seen.insert(absolute(p)) {
+                    if seen.insert(identity(p)) {
                         jobs.push(Job {
                             path: p.clone(),
                             display: display(p),
@@ -322,7 +367,7 @@ fn discover(paths: &[PathBuf], opts: &Options) -> Result<Vec<Job>, Fatal> {
                 for dep in deps {
                     let ddir = dep.parent().unwrap_or(Path::new("."));
                     let (droot, ds) = settings_for(ddir, &search)?;
-                    if excluded(&ds, &droot, &dep) || !seen.insert(absolute(&dep)) {
+                    if excluded(&ds, &droot, &dep) || !seen.insert(identity(&dep)) {
                         continue;
                     }
                     jobs.push(Job {
@@ -335,7 +380,7 @@ fn discover(paths: &[PathBuf], opts: &Options) -> Result<Vec<Job>, Fatal> {
                 }
                 continue;
             }
-            if !seen.insert(absolute(p)) {
+            if !seen.insert(identity(p)) {
                 continue;
             }
             jobs.push(Job {
@@ -357,7 +402,9 @@ fn is_catalog_file(p: &Path) -> bool {
     if name.ends_with(".rig.yaml") || name.ends_with(".rig.yml") {
         return false;
     }
-    std::fs::read_to_string(p).is_ok_and(|t| t.lines().any(|l| l.starts_with("catalog:")))
+    // Only a regular file is opened here: reading a named pipe would block.
+    std::fs::metadata(p).is_ok_and(|m| m.is_file())
+        && std::fs::read_to_string(p).is_ok_and(|t| t.lines().any(|l| l.starts_with("catalog:")))
 }
 
 /// The rig files under `root` that include `catalog` (directly or through other
@@ -402,6 +449,9 @@ fn dependents(root: &Path, catalog: &Path) -> Vec<PathBuf> {
 
 /// The canonical paths a file's `include` list names (unreadable files: none).
 fn include_list(path: &Path) -> Vec<PathBuf> {
+    if !std::fs::metadata(path).is_ok_and(|m| m.is_file()) {
+        return Vec::new();
+    }
     let Ok(text) = std::fs::read_to_string(path) else {
         return Vec::new();
     };
@@ -427,6 +477,11 @@ fn relative_to_cwd(p: &Path) -> PathBuf {
     let cwd = absolute(Path::new("."));
     let abs = absolute(p);
     abs.strip_prefix(&cwd).map(Path::to_path_buf).unwrap_or(abs)
+}
+
+/// The file a path names, for linting each file once (a link and its target are one).
+fn identity(p: &Path) -> PathBuf {
+    std::fs::canonicalize(p).unwrap_or_else(|_| absolute(p))
 }
 
 fn excluded(s: &Settings, root: &Path, path: &Path) -> bool {
@@ -469,32 +524,73 @@ pub fn normalize(p: &Path) -> PathBuf {
     out
 }
 
-/// Read a file's text for linting. Too-large and non-UTF-8 files become findings.
+/// Why a path that is not a regular file cannot be linted.
+fn not_regular(meta: &std::fs::Metadata) -> String {
+    let t = meta.file_type();
+    if t.is_dir() {
+        return "is a directory, not a regular file".to_string();
+    }
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::FileTypeExt;
+        if t.is_fifo() {
+            return "is a named pipe (FIFO), not a regular file".to_string();
+        }
+        if t.is_socket() {
+            return "is a socket, not a regular file".to_string();
+        }
+        if t.is_char_device() || t.is_block_device() {
+            return "is a device, not a regular file".to_string();
+        }
+    }
+    "not a regular file".to_string()
+}
+
+/// The finding for a file over the size limit (`size` when it is known up front).
+fn too_large(id: FileId, size: Option<u64>, limit: u64) -> Finding {
+    let what = match size {
+        Some(n) => format!("the file is {n} bytes"),
+        None => format!("the file holds more than {limit} bytes"),
+    };
+    Finding::new(
+        "yaml-syntax",
+        Severity::Error,
+        Label::new(Span::point(id, 0), "file too large"),
+        format!("{what}, over the {limit}-byte limit for one rig or catalog"),
+    )
+    .with_help("split the rig, or raise the limit with --max-file-size")
+}
+
+/// Read a file's text for linting. Too-large and non-UTF-8 files become findings. Only
+/// regular files are opened (a named pipe would block), and never more than the limit
+/// is read, whatever size the file system reports.
 fn read_file(ctx: &Ctx, path: &Path, display: String) -> Result<(FileId, Option<Finding>), String> {
+    use std::io::Read;
     let meta = std::fs::metadata(path).map_err(|e| e.to_string())?;
     if !meta.is_file() {
-        return Err("not a regular file".to_string());
+        return Err(not_regular(&meta));
     }
-    if meta.len() > ctx.max_file_bytes {
-        let id = ctx
-            .sources
+    let limit = ctx.max_file_bytes;
+    let add_empty = |display: String| {
+        ctx.sources
             .lock()
             .expect("no thread panicked")
-            .add(path, display, String::new());
-        let f = Finding::new(
-            "yaml-syntax",
-            Severity::Error,
-            Label::new(Span::point(id, 0), "file too large"),
-            format!(
-                "the file is {} bytes, over the {}-byte limit for one rig or catalog",
-                meta.len(),
-                ctx.max_file_bytes
-            ),
-        )
-        .with_help("split the rig, or raise the limit with --max-file-size");
-        return Ok((id, Some(f)));
+            .add(path, display, String::new())
+    };
+    if meta.len() > limit {
+        let id = add_empty(display);
+        return Ok((id, Some(too_large(id, Some(meta.len()), limit))));
     }
-    let bytes = std::fs::read(path).map_err(|e| e.to_string())?;
+    let file = std::fs::File::open(path).map_err(|e| e.to_string())?;
+    let mut bytes = Vec::with_capacity(usize::try_from(meta.len()).unwrap_or(0));
+    file.take(limit.saturating_add(1))
+        .read_to_end(&mut bytes)
+        .map_err(|e| e.to_string())?;
+    if bytes.len() as u64 > limit {
+        // The file grew, or the file system reports no size (as /proc does).
+        let id = add_empty(display);
+        return Ok((id, Some(too_large(id, None, limit))));
+    }
     match String::from_utf8(bytes) {
         Ok(text) => Ok((
             ctx.sources
@@ -534,13 +630,18 @@ fn load(ctx: &Ctx, path: &Path, display: String, role: Role) -> Result<Loaded, S
             suppressions: Vec::new(),
         });
     }
+    Ok(load_added(ctx, file, role))
+}
+
+/// Parse, check the shape of and build a file already in [`Sources`].
+fn load_added(ctx: &Ctx, file: FileId, role: Role) -> Loaded {
     // The text is immutable once added; work on a copy of the handle's text.
     let (text, lines) = {
         let sources = ctx.sources.lock().expect("no thread panicked");
         let sf = sources.get(file);
         (sf.text.clone(), sf.lines.clone())
     };
-    Ok(load_text(file, &text, &lines, role))
+    load_text(file, &text, &lines, role)
 }
 
 fn load_text(file: FileId, text: &str, lines: &LineIndex, role: Role) -> Loaded {
@@ -581,19 +682,25 @@ fn load_text(file: FileId, text: &str, lines: &LineIndex, role: Role) -> Loaded 
 
 type RigResult = (Loaded, Vec<Finding>, usize, Option<Rig>, Arc<Settings>);
 
+/// Read and lint one rig file.
 fn lint_rig(ctx: &Ctx, job: &Job, keep: bool) -> Result<RigResult, Fatal> {
-    let mut loaded = load(ctx, &job.path, job.display.clone(), job.role)
+    let loaded = load(ctx, &job.path, job.display.clone(), job.role)
         .map_err(|why| Fatal::Unreadable(job.path.clone(), why))?;
+    Ok(lint_loaded(ctx, job, keep, loaded))
+}
+
+/// Lint a loaded rig: includes, resolution and the rules.
+fn lint_loaded(ctx: &Ctx, job: &Job, keep: bool, mut loaded: Loaded) -> RigResult {
     let mut out = Vec::new();
     let Some(doc) = loaded.doc.take() else {
-        return Ok((loaded, out, 0, None, job.settings.clone()));
+        return (loaded, out, 0, None, job.settings.clone());
     };
     if job.role == Role::Catalog {
         // A catalog on its own: names and the clock graph, no physics.
         let (_, resolve_findings) = resolve::resolve(&[&doc], &job.settings.thresholds);
         out.extend(resolve_findings);
         loaded.doc = Some(doc);
-        return Ok((loaded, out, 0, None, job.settings.clone()));
+        return (loaded, out, 0, None, job.settings.clone());
     }
     let channels = doc.channels.len();
     // Includes, depth first, each catalog once per rig.
@@ -616,13 +723,13 @@ fn lint_rig(ctx: &Ctx, job: &Job, keep: bool) -> Result<RigResult, Fatal> {
     out.extend(resolve_findings);
     out.extend(crate::rules::check_rig(&rig));
     loaded.doc = Some(doc);
-    Ok((
+    (
         loaded,
         out,
         channels,
         keep.then_some(rig),
         job.settings.clone(),
-    ))
+    )
 }
 
 fn canonical_or_self(p: &Path) -> PathBuf {

@@ -184,45 +184,11 @@ pub fn parse_decimal(s: &str) -> Option<Exact> {
     }
 }
 
-/// The length of the decimal number at the start of `s` (sign, digits, fraction,
-/// exponent), by syntax alone: 0 when it does not start with one.
-fn number_prefix_len(s: &str) -> usize {
-    let b = s.as_bytes();
-    let mut i = 0;
-    if matches!(b.first(), Some(b'+' | b'-')) {
-        i = 1;
-    }
-    let digits = |mut j: usize| {
-        while j < b.len() && b[j].is_ascii_digit() {
-            j += 1;
-        }
-        j
-    };
-    let int_end = digits(i);
-    let mut end = int_end;
-    if b.get(end) == Some(&b'.') {
-        end = digits(end + 1);
-    }
-    if end == i || (end == i + 1 && b[i] == b'.') {
-        return 0; // no digits at all
-    }
-    if matches!(b.get(end), Some(b'e' | b'E')) {
-        let mut j = end + 1;
-        if matches!(b.get(j), Some(b'+' | b'-')) {
-            j += 1;
-        }
-        let k = digits(j);
-        if k > j {
-            end = k;
-        }
-    }
-    end
-}
-
 /// Parse `text` as a quantity of `kind`. Returns the exact value in the base unit.
 /// Range is not checked here (see [`check_positive`]).
 pub fn parse(text: &str, kind: Kind) -> Result<Exact, QuantityError> {
     let t = text.trim();
+    let shown = elide(t);
     if t.is_empty() {
         return Err(QuantityError::new(
             format!("expected a {}, found an empty value", kind.noun()),
@@ -232,12 +198,14 @@ pub fn parse(text: &str, kind: Kind) -> Result<Exact, QuantityError> {
             )),
         ));
     }
-    // Split into the number and the unit: the number is the longest prefix that parses.
-    let split = number_prefix_len(t);
+    // Split into the number and the unit: the number is the longest prefix that reads
+    // as a decimal (found in one pass: trying every prefix was quadratic, and a long
+    // run of digits took minutes).
+    let split = number_len(t);
     if split == 0 {
         return Err(QuantityError::new(
             format!(
-                "`{t}` is not a {}: it does not start with a number",
+                "`{shown}` is not a {}: it does not start with a number",
                 kind.noun()
             ),
             Some(format!(
@@ -250,12 +218,13 @@ pub fn parse(text: &str, kind: Kind) -> Result<Exact, QuantityError> {
         return Err(out_of_range(t, kind));
     };
     let unit = t[split..].trim();
+    let unit_shown = elide(unit);
     if unit.is_empty() {
         if kind.bare_allowed() {
             return Ok(number);
         }
         return Err(QuantityError::new(
-            format!("`{t}` has no unit; a {} needs one", kind.noun()),
+            format!("`{shown}` has no unit; a {} needs one", kind.noun()),
             Some(format!(
                 "write the unit, e.g. {} (units: {})",
                 kind.example(),
@@ -271,7 +240,7 @@ pub fn parse(text: &str, kind: Kind) -> Result<Exact, QuantityError> {
     // A near miss: the same letters in another case.
     if let Some((right, _, _)) = kind.units().iter().find(|u| u.0.eq_ignore_ascii_case(unit)) {
         return Err(QuantityError::new(
-            format!("unknown unit `{unit}` in `{t}`; units are case-sensitive"),
+            format!("unknown unit `{unit_shown}` in `{shown}`; units are case-sensitive"),
             Some(format!(
                 "write `{}{right}`",
                 &t[..t.len() - t[split..].trim_start().len()]
@@ -284,7 +253,7 @@ pub fn parse(text: &str, kind: Kind) -> Result<Exact, QuantityError> {
     {
         return Err(QuantityError::new(
             format!(
-                "`{t}` is a {}, but a {} is expected here",
+                "`{shown}` is a {}, but a {} is expected here",
                 other.noun(),
                 kind.noun()
             ),
@@ -292,15 +261,66 @@ pub fn parse(text: &str, kind: Kind) -> Result<Exact, QuantityError> {
         ));
     }
     Err(QuantityError::new(
-        format!("unknown unit `{unit}` in `{t}`"),
+        format!("unknown unit `{unit_shown}` in `{shown}`"),
         Some(format!("use one of: {}", kind.unit_list())),
     ))
+}
+
+/// The length of the longest prefix of `t` shaped like a decimal number: an optional
+/// sign, digits with an optional point (at least one digit), and an optional exponent
+/// (`e` or `E`, an optional sign, at least one digit). 0 when there is none.
+fn number_len(t: &str) -> usize {
+    let b = t.as_bytes();
+    let digits_from = |mut i: usize| {
+        while i < b.len() && b[i].is_ascii_digit() {
+            i += 1;
+        }
+        i
+    };
+    let mut i = usize::from(matches!(b.first(), Some(b'+' | b'-')));
+    let int_end = digits_from(i);
+    let mut end = int_end;
+    let mut has_digits = int_end > i;
+    if b.get(end) == Some(&b'.') {
+        let frac_end = digits_from(end + 1);
+        has_digits |= frac_end > end + 1;
+        end = frac_end;
+    }
+    if !has_digits {
+        return 0;
+    }
+    i = end;
+    if matches!(b.get(i), Some(b'e' | b'E')) {
+        let mut j = i + 1;
+        if matches!(b.get(j), Some(b'+' | b'-')) {
+            j += 1;
+        }
+        let exp_end = digits_from(j);
+        if exp_end > j {
+            end = exp_end;
+        }
+    }
+    end
+}
+
+/// A value as quoted in a message: a long one keeps its start and end.
+fn elide(s: &str) -> String {
+    const KEEP_START: usize = 24;
+    const KEEP_END: usize = 12;
+    let n = s.chars().count();
+    if n <= KEEP_START + KEEP_END + 12 {
+        return s.to_string();
+    }
+    let start: String = s.chars().take(KEEP_START).collect();
+    let end: String = s.chars().skip(n - KEEP_END).collect();
+    format!("{start}…{end}")
 }
 
 fn out_of_range(t: &str, kind: Kind) -> QuantityError {
     QuantityError::new(
         format!(
-            "`{t}` is out of the range this tool can represent exactly as a {}",
+            "`{}` is out of the range this tool can represent exactly as a {}",
+            elide(t),
             kind.noun()
         ),
         None,
@@ -380,6 +400,31 @@ mod tests {
 
     fn hz(s: &str) -> Exact {
         parse(s, Kind::Frequency).unwrap()
+    }
+
+    #[test]
+    fn long_digit_run_is_read_in_one_pass() {
+        // Regression: the number was found by trying every prefix, each parsed anew
+        // (quadratic: 20 000 digits took 35 s). Now one pass, and a number too large
+        // for an exact value says so instead of splitting off digits as a "unit".
+        let text = format!("{} Hz", "1".repeat(1_000_000));
+        let e = parse(&text, Kind::Frequency).unwrap_err();
+        assert_eq!(
+            e.message,
+            "`111111111111111111111111…111111111 Hz` is out of the range this tool can \
+             represent exactly as a frequency"
+        );
+        assert_eq!(
+            parse("1e400 Hz", Kind::Frequency).unwrap_err().message,
+            "`1e400 Hz` is out of the range this tool can represent exactly as a frequency"
+        );
+        // The split still takes the longest decimal: `1.2.3` is 1.2 and a unit `.3`.
+        assert_eq!(
+            parse("1.2.3", Kind::Frequency).unwrap_err().message,
+            "unknown unit `.3` in `1.2.3`"
+        );
+        assert_eq!(hz("5e3"), Exact::from_integer(5000));
+        assert_eq!(hz("-.5e1 Hz"), Exact::from_integer(-5));
     }
 
     #[test]

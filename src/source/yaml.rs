@@ -13,6 +13,14 @@ use std::fmt;
 /// 2 million; alias bombs are stopped far earlier by the alias budgets).
 pub const MAX_NODES: usize = 20_000_000;
 
+/// The most nodes that aliases may copy in one file. Sharing a filter list between a few
+/// thousand channels needs far fewer; an alias bomb ("billion laughs") is stopped here
+/// after about this many nodes, in well under a second.
+pub const MAX_ALIAS_NODES: usize = 100_000;
+
+/// The deepest nesting of collections one file may hold (a rig needs about 8).
+pub const MAX_DEPTH: usize = 64;
+
 /// A YAML node with its span.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Node {
@@ -139,11 +147,16 @@ pub fn parse(file: FileId, text: &str, lines: &LineIndex) -> Result<Node, Syntax
     let mut options = serde_saphyr::Options::default();
     options.strict_booleans = true;
     options.with_snippet = false;
-    if let Some(budget) = options.budget.as_mut() {
-        budget.max_nodes = MAX_NODES;
-        budget.max_events = 2 * MAX_NODES;
-        budget.max_documents = 1;
-    }
+    let budget = options
+        .budget
+        .get_or_insert_with(serde_saphyr::Budget::default);
+    budget.max_nodes = MAX_NODES;
+    budget.max_events = 2 * MAX_NODES;
+    budget.max_documents = 1;
+    budget.max_depth = MAX_DEPTH;
+    budget.flow_nesting_limit = MAX_DEPTH;
+    budget.max_recorded_anchor_events = MAX_ALIAS_NODES;
+    options.alias_limits.max_total_replayed_events = MAX_ALIAS_NODES;
     let raw: Spanned<Raw> = serde_saphyr::from_str_with_options(text, options)
         .map_err(|e| syntax_error(file, text, lines, &e))?;
     let mut node = convert(file, text, lines, raw);
@@ -171,13 +184,82 @@ fn syntax_error(
         })
         .unwrap_or(0);
     SyntaxError {
-        message: clean_message(&e.to_string()),
+        message: describe(e),
         span: Span::point(file, offset),
     }
 }
 
-/// Strip the parser's "error: line N column M:" prefix and option hints: positions are
-/// rendered by the report, not carried in messages.
+/// The parser's message without positions (the report renders those from the span):
+/// the innermost error of an alias or snippet wrapper, formatted without its location
+/// suffix; budget breaches in our own words.
+fn describe(e: &serde_saphyr::Error) -> String {
+    use serde_saphyr::{Error, MessageFormatter};
+    let mut inner = e;
+    while let Error::AliasError { error, .. } | Error::WithSnippet { error, .. } = inner {
+        inner = error;
+    }
+    if let Error::Budget { breach, .. } = inner {
+        return budget_message(breach);
+    }
+    let raw = serde_saphyr::DefaultMessageFormatter.format_message(inner);
+    if raw == "recursion limit exceeded" {
+        return format!(
+            "collections nest more than {MAX_DEPTH} deep, over the limit for reading a file safely"
+        );
+    }
+    // Control characters from the input (a NUL, an escape) must not reach a terminal.
+    let safe: String = raw
+        .chars()
+        .flat_map(|c| {
+            let escaped: Vec<char> = if c.is_control() {
+                c.escape_debug().collect()
+            } else {
+                vec![c]
+            };
+            escaped
+        })
+        .collect();
+    clean_message(&safe)
+}
+
+/// A budget breach as one clause with the limit that was hit.
+fn budget_message(breach: &serde_saphyr::budget::BudgetBreach) -> String {
+    use serde_saphyr::budget::BudgetBreach as B;
+    let what = match breach {
+        B::Depth { .. } => format!("collections nest more than {MAX_DEPTH} deep"),
+        B::Nodes { nodes } => format!("the document holds more than {} nodes", nodes - 1),
+        B::Events { events } => format!("the document holds more than {} events", events - 1),
+        B::Aliases { aliases } => format!("the document uses more than {} aliases", aliases - 1),
+        B::Anchors { anchors } => format!("the document defines more than {} anchors", anchors - 1),
+        B::RecordedAnchorEvents {
+            recorded_anchor_events,
+        } => format!(
+            "aliases expand to more than {} copied nodes",
+            recorded_anchor_events - 1
+        ),
+        B::RecordedAnchorBytes {
+            recorded_anchor_bytes,
+        } => format!(
+            "aliases expand to more than {} copied bytes",
+            recorded_anchor_bytes - 1
+        ),
+        B::ScalarBytes { total_scalar_bytes } => {
+            format!(
+                "the document's values hold more than {} bytes",
+                total_scalar_bytes - 1
+            )
+        }
+        B::Documents { .. } => {
+            return "the file holds more than one YAML document, where a rig or catalog is one"
+                .to_string();
+        }
+        other => format!("the document breaks a parser limit ({other:?})"),
+    };
+    format!("{what}, over the limit for reading a file safely")
+}
+
+/// Strip the parser's "error: line N column M:" prefix, any "at line N, column M" suffix
+/// and option hints: positions are rendered by the report, not carried in messages.
 fn clean_message(raw: &str) -> String {
     let first = raw.lines().next().unwrap_or(raw).trim();
     let mut msg = first.strip_prefix("error:").unwrap_or(first).trim();
@@ -192,27 +274,20 @@ fn clean_message(raw: &str) -> String {
             msg = rest[idx + 2..].trim();
         }
     }
-    let msg = msg.split(", set DuplicateKeyPolicy").next().unwrap_or(msg);
-    let msg = match msg.rfind(" at line ") {
-        Some(i)
-            if msg[i + 9..]
-                .split(", column ")
-                .all(|p| !p.is_empty() && p.trim().bytes().all(|b| b.is_ascii_digit())) =>
-        {
-            &msg[..i]
+    if let Some(idx) = msg.rfind(" at line ") {
+        let tail = &msg[idx + " at line ".len()..];
+        let is_position = tail
+            .split([',', ' '])
+            .filter(|w| !w.is_empty())
+            .all(|w| w == "column" || w.chars().all(|c| c.is_ascii_digit()));
+        if is_position {
+            msg = &msg[..idx];
         }
-        _ => msg,
-    };
-    let msg = msg.trim_end_matches('.');
-    if msg.contains("budget breached: Documents") {
-        return "the file holds more than one YAML document; a rig or catalog file is one document"
-            .to_string();
     }
+    let msg = msg.split(", set DuplicateKeyPolicy").next().unwrap_or(msg);
+    let msg = msg.trim_end_matches('.');
     if msg.starts_with("recursive references") {
         return "an alias refers to a node that contains it (a recursive alias)".to_string();
-    }
-    if msg.starts_with("budget breached") {
-        return format!("the document is too large or too deeply nested to read safely ({msg})");
     }
     msg.to_string()
 }
