@@ -5,7 +5,8 @@
 #   bench/run.sh c1k c10k   # some of them
 #
 # Environment: REPEATS (default 3; the median wall time is reported, the largest peak
-# memory), SIZES for bench/gen.py (default 1k,10k,100k,1M).
+# memory), REPEATS_LARGE for campaigns over 10 MB (default 1), SIZES for bench/gen.py
+# (default 1k,10k,100k,1M).
 #
 # Tools, each on the same files:
 #   lint      foldcheck check --format json DIR            (all cores, as users run it)
@@ -47,7 +48,7 @@ fi
 # run NAME DIR CMD...: median wall (s) and peak RSS (kB) over $repeats runs -> "wall rss"
 measure() {
     local walls=() rss=0 t0 t1 r code
-    for _ in $(seq "$repeats"); do
+    for _ in $(seq "$reps"); do
         t0=$(date +%s%N)
         set +e
         /usr/bin/time -f %M -o "$out/.rss" "$@" > "$out/.stdout" 2> "$out/.stderr"
@@ -61,7 +62,7 @@ measure() {
         r=$(tail -1 "$out/.rss"); [ "$r" -gt "$rss" ] && rss=$r
     done
     local median
-    median=$(printf '%s\n' "${walls[@]}" | sort -n | sed -n "$(( (repeats + 1) / 2 ))p")
+    median=$(printf '%s\n' "${walls[@]}" | sort -n | sed -n "$(( (reps + 1) / 2 ))p")
     echo "$(python3 -c "print($median / 1e9)") $rss"
 }
 
@@ -71,6 +72,8 @@ for s in "${sets[@]}"; do
     dir=$out/$s
     bytes=$(find "$dir" -name '*.yaml' -printf '%s\n' | awk '{s+=$1} END {print s}')
     files=$(find "$dir" -name '*.yaml' | wc -l)
+    reps=$repeats
+    [ "$bytes" -gt 10000000 ] && reps=${REPEATS_LARGE:-1}
     channels=$("$fc" check --format json "$dir" | python3 -c 'import json,sys; print(json.load(sys.stdin)["channels"])' || true)
     for tool in lint lint-1t tree events libyaml pyyaml; do
         case $tool in
@@ -99,7 +102,7 @@ for s, files, size, ch, tool, wall, rss in rows:
     d = data.setdefault(s, {"files": int(files), "bytes": int(size), "channels": int(ch or 0), "tools": {}})
     d["tools"][tool] = (float(wall), int(rss))
 tools = ["lint", "lint-1t", "tree", "events", "libyaml", "pyyaml"]
-print(f"Machine: {sys.argv[3]} cores; median wall time of the runs; peak memory = max resident set.\n")
+print(f"Machine: {sys.argv[3]} cores; wall time: median of the runs; peak MB: max resident set.\n")
 print("| campaign | files | MB | channels | tool | wall s | MB/s | channels/s | peak MB |")
 print("|---|---:|---:|---:|---|---:|---:|---:|---:|")
 for s, d in data.items():

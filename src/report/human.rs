@@ -2,9 +2,10 @@
 
 use super::{Counts, plural};
 use crate::finding::{Finding, Label, Severity};
-use crate::source::{Sources, Span};
+use crate::source::{SourceFile, Sources, Span};
 use miette::{
-    Diagnostic, GraphicalReportHandler, GraphicalTheme, LabeledSpan, NamedSource, SourceSpan,
+    Diagnostic, GraphicalReportHandler, GraphicalTheme, LabeledSpan, MietteError,
+    MietteSpanContents, SourceCode, SourceSpan, SpanContents,
 };
 use std::fmt;
 use std::time::Duration;
@@ -18,31 +19,86 @@ pub enum Color {
     Never,
 }
 
-struct Report {
+/// A file's text as miette reads it: borrowed, not copied for every finding, and the
+/// lines around a span found through the file's line index instead of a scan from the
+/// start of the file (which made a report on a large file quadratic in its findings).
+#[derive(Clone, Copy)]
+struct FileSource<'a> {
+    file: &'a SourceFile,
+    language: Option<&'static str>,
+}
+
+impl FileSource<'_> {
+    fn name(&self) -> &str {
+        &self.file.display
+    }
+}
+
+impl SourceCode for FileSource<'_> {
+    fn read_span<'b>(
+        &'b self,
+        span: &SourceSpan,
+        context_lines_before: usize,
+        context_lines_after: usize,
+    ) -> Result<Box<dyn SpanContents<'b> + 'b>, MietteError> {
+        let text = self.file.text.as_str();
+        let lines = &self.file.lines;
+        let start = span.offset().min(text.len());
+        let end = (span.offset() + span.len()).min(text.len()).max(start);
+        // A window of whole lines, one more on each side than the context asked for;
+        // miette then reads the context inside it exactly as in the whole text.
+        let first = lines.line_col(text, start).0;
+        let last = lines.line_col(text, end).0;
+        let w_first = first.saturating_sub(context_lines_before + 1).max(1);
+        let w0 = lines.offset(text, w_first, 1);
+        let w1 = lines.offset(text, last + context_lines_after + 2, 1);
+        let window = &text[w0..w1];
+        let inner = window.read_span(
+            &SourceSpan::new((start - w0).into(), end - start),
+            context_lines_before,
+            context_lines_after,
+        )?;
+        let shift = w_first - 1;
+        let mut contents = MietteSpanContents::new_named(
+            self.file.display.clone(),
+            inner.data(),
+            SourceSpan::new((inner.span().offset() + w0).into(), inner.span().len()),
+            inner.line() + shift,
+            inner.column(),
+            inner.line_count() + shift,
+        );
+        if let Some(language) = self.language {
+            contents = contents.with_language(language);
+        }
+        Ok(Box::new(contents))
+    }
+}
+
+struct Report<'a> {
     message: String,
     rule: &'static str,
     severity: Severity,
     help: Option<String>,
-    source: NamedSource<String>,
+    source: FileSource<'a>,
     labels: Vec<LabeledSpan>,
-    related: Vec<Report>,
+    related: Vec<Report<'a>>,
 }
 
-impl fmt::Debug for Report {
+impl fmt::Debug for Report<'_> {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         f.write_str(&self.message)
     }
 }
 
-impl fmt::Display for Report {
+impl fmt::Display for Report<'_> {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         f.write_str(&self.message)
     }
 }
 
-impl std::error::Error for Report {}
+impl std::error::Error for Report<'_> {}
 
-impl Diagnostic for Report {
+impl Diagnostic for Report<'_> {
     fn code<'a>(&'a self) -> Option<Box<dyn fmt::Display + 'a>> {
         if self.rule.is_empty() {
             None
@@ -81,7 +137,7 @@ fn source_span(span: Span) -> SourceSpan {
     SourceSpan::new((span.start as usize).into(), span.len())
 }
 
-fn build(sources: &Sources, f: &Finding) -> Report {
+fn build<'a>(sources: &'a Sources, f: &Finding) -> Report<'a> {
     let file = sources.get(f.primary.span.file);
     let mut labels = vec![LabeledSpan::new_primary_with_span(
         Some(f.primary.text.clone()),
@@ -113,7 +169,10 @@ fn build(sources: &Sources, f: &Finding) -> Report {
                 rule: "",
                 severity: Severity::Note,
                 help: None,
-                source: NamedSource::new(other.display.clone(), other.text.clone()),
+                source: FileSource {
+                    file: other,
+                    language: None,
+                },
                 labels: vec![label],
                 related: Vec::new(),
             }),
@@ -124,7 +183,10 @@ fn build(sources: &Sources, f: &Finding) -> Report {
         rule: f.rule,
         severity: f.severity,
         help: f.help.clone(),
-        source: NamedSource::new(file.display.clone(), file.text.clone()).with_language("yaml"),
+        source: FileSource {
+            file,
+            language: Some("yaml"),
+        },
         labels,
         related,
     }
