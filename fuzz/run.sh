@@ -21,7 +21,7 @@ corpus=$here/corpus/lint
 mkdir -p "$corpus" "$here/artifacts/lint"
 
 (cd "$root" && FOLDCHECK_FUZZ_SEEDS="$corpus" cargo test --quiet --test fuzz_seeds \
-    write_fuzz_seeds_when_asked -- --nocapture | grep '^wrote' || true)
+    seed_corpus_holds_every_rule_example_and_example_rig -- --nocapture | grep '^wrote' || true)
 
 toolchain=()
 if rustup toolchain list 2>/dev/null | grep -q '^nightly'; then
