@@ -299,9 +299,25 @@ mod fast {
                     let Some(k) = node.as_str().filter(|k| *k != "<<") else {
                         return false;
                     };
+                    // Small mappings (nearly all) are searched; a large one gets a set.
+                    const SEARCHED: usize = 16;
                     let seen = keys.last_mut().expect("a key set per mapping");
-                    if !seen.insert(k.to_string()) {
-                        return false;
+                    if entries.len() < SEARCHED {
+                        if entries.iter().any(|(e, _)| e.as_str() == Some(k)) {
+                            return false;
+                        }
+                    } else {
+                        if seen.is_empty() {
+                            seen.extend(
+                                entries
+                                    .iter()
+                                    .filter_map(|(e, _)| e.as_str())
+                                    .map(str::to_string),
+                            );
+                        }
+                        if !seen.insert(k.to_string()) {
+                            return false;
+                        }
                     }
                     *key = Some(node);
                     true
@@ -757,6 +773,15 @@ mod tests {
         assert!(both_readers(0, "a: &x 1\nb: *x\n").is_none());
         assert!(both_readers(0, "a: 1\na: 2\n").is_none());
         assert!(both_readers(0, &"[".repeat(100)).is_none());
+        // Duplicates past the searched length of a mapping, and early in it.
+        let many: String = (0..40).map(|i| format!("k{i}: {i}\n")).collect();
+        assert!(agree(&many));
+        for dup in ["k3: x\n", "k30: x\n"] {
+            let text = format!("{many}{dup}");
+            assert!(both_readers(0, &text).is_none(), "{dup}");
+            let e = parse(0, &text, &LineIndex::new(&text)).unwrap_err();
+            assert!(e.message.starts_with("duplicate mapping key"), "{}", e.message);
+        }
     }
 
     fn parse_str(text: &str) -> Result<Node, SyntaxError> {
