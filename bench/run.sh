@@ -5,12 +5,15 @@
 #   bench/run.sh c1k c10k   # some of them
 #
 # Environment: REPEATS (default 3; the median wall time is reported, the largest peak
-# memory), SIZES for bench/gen.py (default 1k,10k,100k,1M).
+# memory), REPEATS_LARGE for campaigns over 10 MB (default 1), SIZES for bench/gen.py
+# (default 1k,10k,100k,1M).
 #
 # Tools, each on the same files:
 #   lint      foldcheck check --format json DIR            (all cores, as users run it)
 #   lint-1t   the same with RAYON_NUM_THREADS=1            (one core)
-#   tree      foldcheck's YAML stage alone (serde-saphyr into the spanned tree)
+#   human     foldcheck check --color never DIR            (the default format)
+#   tree      foldcheck's YAML stage alone (the spanned tree, from events when it can)
+#   saphyr    the same tree through serde-saphyr alone (the reader it falls back to)
 #   events    serde-saphyr's event parser alone, spans on every event
 #   libyaml   libyaml's event parser alone, marks on every event
 #   pyyaml    python3: yaml.load(f, Loader=yaml.CSafeLoader) per file, one core
@@ -47,7 +50,7 @@ fi
 # run NAME DIR CMD...: median wall (s) and peak RSS (kB) over $repeats runs -> "wall rss"
 measure() {
     local walls=() rss=0 t0 t1 r code
-    for _ in $(seq "$repeats"); do
+    for _ in $(seq "$reps"); do
         t0=$(date +%s%N)
         set +e
         /usr/bin/time -f %M -o "$out/.rss" "$@" > "$out/.stdout" 2> "$out/.stderr"
@@ -61,7 +64,7 @@ measure() {
         r=$(tail -1 "$out/.rss"); [ "$r" -gt "$rss" ] && rss=$r
     done
     local median
-    median=$(printf '%s\n' "${walls[@]}" | sort -n | sed -n "$(( (repeats + 1) / 2 ))p")
+    median=$(printf '%s\n' "${walls[@]}" | sort -n | sed -n "$(( (reps + 1) / 2 ))p")
     echo "$(python3 -c "print($median / 1e9)") $rss"
 }
 
@@ -71,12 +74,15 @@ for s in "${sets[@]}"; do
     dir=$out/$s
     bytes=$(find "$dir" -name '*.yaml' -printf '%s\n' | awk '{s+=$1} END {print s}')
     files=$(find "$dir" -name '*.yaml' | wc -l)
+    reps=$repeats
+    [ "$bytes" -gt 10000000 ] && reps=${REPEATS_LARGE:-1}
     channels=$("$fc" check --format json "$dir" | python3 -c 'import json,sys; print(json.load(sys.stdin)["channels"])' || true)
-    for tool in lint lint-1t tree events libyaml pyyaml; do
+    for tool in lint lint-1t human tree saphyr events libyaml pyyaml; do
         case $tool in
             lint) m=$(measure "$fc" check --format json "$dir") ;;
             lint-1t) m=$(RAYON_NUM_THREADS=1 measure "$fc" check --format json "$dir") ;;
-            tree|events|libyaml) m=$(measure "$floor" "$tool" "$dir") ;;
+            human) m=$(measure "$fc" check --color never "$dir") ;;
+            tree|saphyr|events|libyaml) m=$(measure "$floor" "$tool" "$dir") ;;
             pyyaml) m=$(measure python3 "$here/pyyaml_load.py" "$dir") ;;
         esac
         printf '%s\t%s\t%s\t%s\t%s\t%s\n' "$s" "$files" "$bytes" "$channels" "$tool" "$m" | tr ' ' '\t' >> "$results"
@@ -98,8 +104,8 @@ data = {}
 for s, files, size, ch, tool, wall, rss in rows:
     d = data.setdefault(s, {"files": int(files), "bytes": int(size), "channels": int(ch or 0), "tools": {}})
     d["tools"][tool] = (float(wall), int(rss))
-tools = ["lint", "lint-1t", "tree", "events", "libyaml", "pyyaml"]
-print(f"Machine: {sys.argv[3]} cores; median wall time of the runs; peak memory = max resident set.\n")
+tools = ["lint", "lint-1t", "human", "tree", "saphyr", "events", "libyaml", "pyyaml"]
+print(f"Machine: {sys.argv[3]} cores; wall time: median of the runs; peak MB: max resident set.\n")
 print("| campaign | files | MB | channels | tool | wall s | MB/s | channels/s | peak MB |")
 print("|---|---:|---:|---:|---|---:|---:|---:|---:|")
 for s, d in data.items():
@@ -108,16 +114,16 @@ for s, d in data.items():
         if t not in d["tools"]:
             continue
         wall, rss = d["tools"][t]
-        cps = f"{d['channels'] / wall:,.0f}" if t.startswith("lint") else ""
+        cps = f"{d['channels'] / wall:,.0f}" if t in ("lint", "lint-1t", "human") else ""
         print(f"| {s} | {d['files']} | {mb:.1f} | {d['channels']:,} | {t} | {wall:.3f} | {mb / wall:.1f} | {cps} | {rss / 1024:.0f} |")
 print()
-print("| campaign | lint / tree | lint / events | lint / libyaml | lint / pyyaml | lint-1t / pyyaml | tree / events | µs per channel (lint) |")
-print("|---|---:|---:|---:|---:|---:|---:|---:|")
+print("| campaign | lint / tree | lint / events | lint / libyaml | lint / pyyaml | lint-1t / pyyaml | human / lint | tree / events | saphyr / tree | µs per channel (lint) |")
+print("|---|---:|---:|---:|---:|---:|---:|---:|---:|---:|")
 for s, d in data.items():
     t = {k: v[0] for k, v in d["tools"].items()}
     r = lambda a, b: f"{t[a] / t[b]:.2f}" if a in t and b in t else ""
     us = f"{t['lint'] / d['channels'] * 1e6:.1f}" if d["channels"] else ""
-    print(f"| {s} | {r('lint','tree')} | {r('lint','events')} | {r('lint','libyaml')} | {r('lint','pyyaml')} | {r('lint-1t','pyyaml')} | {r('tree','events')} | {us} |")
+    print(f"| {s} | {r('lint','tree')} | {r('lint','events')} | {r('lint','libyaml')} | {r('lint','pyyaml')} | {r('lint-1t','pyyaml')} | {r('human','lint')} | {r('tree','events')} | {r('saphyr','tree')} | {us} |")
 if os.path.exists(sys.argv[2]):
     h = json.load(open(sys.argv[2]))["results"][0]
     print(f"\n200-channel rig, one process per run (hyperfine, {len(h['times'])} runs): "

@@ -3,8 +3,10 @@
 //!
 //! ```text
 //! yaml_floor MODE PATH...
-//!   tree     foldcheck's own YAML front end (serde-saphyr into a tree of spanned nodes):
-//!            the first stage of a lint, and the floor of its design
+//!   tree     foldcheck's own YAML front end (`source::yaml::parse`: the tree of spanned
+//!            nodes, built straight from events in the common case): the first stage of
+//!            a lint, and the floor of its design
+//!   saphyr   the same tree through serde-saphyr alone (the reader `parse` falls back to)
 //!   events   serde-saphyr's event parser (granit-parser) alone: every event with its
 //!            span, no tree, no serde
 //!   libyaml  libyaml (unsafe-libyaml, a translation of the C library) events with
@@ -43,15 +45,23 @@ fn yaml_files(root: &Path, out: &mut Vec<PathBuf>) {
 fn tree(text: &str) -> Result<u64, String> {
     let lines = foldcheck::source::LineIndex::new(text);
     let root = foldcheck::source::yaml::parse(0, text, &lines).map_err(|e| e.message)?;
-    fn count(n: &foldcheck::source::yaml::Node) -> u64 {
-        use foldcheck::source::yaml::NodeKind;
-        1 + match &n.kind {
-            NodeKind::Seq(items) => items.iter().map(count).sum(),
-            NodeKind::Map(entries) => entries.iter().map(|(k, v)| count(k) + count(v)).sum(),
-            _ => 0,
-        }
-    }
     Ok(count(&root))
+}
+
+/// The tree through serde-saphyr alone.
+fn saphyr(text: &str) -> Result<u64, String> {
+    let lines = foldcheck::source::LineIndex::new(text);
+    let root = foldcheck::source::yaml::parse_with_serde(0, text, &lines).map_err(|e| e.message)?;
+    Ok(count(&root))
+}
+
+fn count(n: &foldcheck::source::yaml::Node) -> u64 {
+    use foldcheck::source::yaml::NodeKind;
+    1 + match &n.kind {
+        NodeKind::Seq(items) => items.iter().map(count).sum(),
+        NodeKind::Map(entries) => entries.iter().map(|(k, v)| count(k) + count(v)).sum(),
+        _ => 0,
+    }
 }
 
 /// granit-parser events with spans (the parser under serde-saphyr).
@@ -109,11 +119,12 @@ fn main() {
         .filter(|a| a != "--bench")
         .collect();
     let Some((mode, paths)) = args.split_first() else {
-        eprintln!("usage: yaml_floor tree|events|libyaml PATH...");
+        eprintln!("usage: yaml_floor tree|saphyr|events|libyaml PATH...");
         return;
     };
     let parse: fn(&str) -> Result<u64, String> = match mode.as_str() {
         "tree" => tree,
+        "saphyr" => saphyr,
         "events" => events,
         "libyaml" => libyaml,
         other => {

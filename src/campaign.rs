@@ -722,7 +722,17 @@ fn lint_loaded(ctx: &Ctx, job: &Job, keep: bool, mut loaded: Loaded) -> RigResul
     let (rig, resolve_findings) = resolve::resolve(&docs, &job.settings.thresholds);
     out.extend(resolve_findings);
     out.extend(crate::rules::check_rig(&rig));
-    loaded.doc = Some(doc);
+    // The rig's model is not needed past its rules: dropping it here keeps a campaign's
+    // memory to its texts and findings, not every rig's model at once.
+    drop(doc);
+    // Nothing will be rendered from a clean rig: let its text go too (unless the caller
+    // keeps the rigs, as `diff` and `inspect` do).
+    if !keep && out.is_empty() && loaded.findings.is_empty() && loaded.suppressions.is_empty() {
+        ctx.sources
+            .lock()
+            .expect("no thread panicked")
+            .release_text(loaded.file);
+    }
     (
         loaded,
         out,

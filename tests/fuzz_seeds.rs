@@ -102,31 +102,55 @@ fn rule_examples_pass_every_renderer_in_memory() {
     }
 }
 
-#[test]
-fn write_fuzz_seeds_when_asked() {
-    let Some(dir) = std::env::var_os("FOLDCHECK_FUZZ_SEEDS") else {
-        return;
-    };
-    let dir = PathBuf::from(dir);
-    std::fs::create_dir_all(&dir).unwrap();
-    let mut n = 0;
+/// The seed corpus: every rule's failing and passing example, the example rigs and the
+/// catalog they include, as (file name, text).
+fn seeds() -> Vec<(String, String)> {
+    let mut out = Vec::new();
     for r in RULES {
         for (which, text) in [("failing", r.failing), ("passing", r.passing)] {
-            std::fs::write(dir.join(format!("rule-{}-{which}.yaml", r.name)), text).unwrap();
-            n += 1;
+            out.push((format!("rule-{}-{which}.yaml", r.name), text.to_string()));
         }
     }
     for rig in example_rigs() {
         let name = rig.file_name().unwrap().to_string_lossy().into_owned();
-        std::fs::copy(&rig, dir.join(format!("example-{name}"))).unwrap();
-        n += 1;
+        out.push((
+            format!("example-{name}"),
+            std::fs::read_to_string(&rig).unwrap(),
+        ));
     }
     let catalogs = Path::new(env!("CARGO_MANIFEST_DIR")).join("examples/catalog");
-    for e in std::fs::read_dir(catalogs).unwrap() {
-        let p = e.unwrap().path();
+    let mut paths: Vec<PathBuf> = std::fs::read_dir(catalogs)
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .collect();
+    paths.sort();
+    for p in paths {
         let name = p.file_name().unwrap().to_string_lossy().into_owned();
-        std::fs::copy(&p, dir.join(format!("catalog-{name}"))).unwrap();
-        n += 1;
+        out.push((
+            format!("catalog-{name}"),
+            std::fs::read_to_string(&p).unwrap(),
+        ));
     }
-    println!("wrote {n} seeds to {}", dir.display());
+    out
+}
+
+#[test]
+fn seed_corpus_holds_every_rule_example_and_example_rig() {
+    // With FOLDCHECK_FUZZ_SEEDS=DIR the seeds are also written there (fuzz/run.sh).
+    let seeds = seeds();
+    let names: std::collections::HashSet<&str> = seeds.iter().map(|(n, _)| n.as_str()).collect();
+    assert_eq!(names.len(), seeds.len(), "seed names are unique");
+    assert!(seeds.len() > 2 * RULES.len() + example_rigs().len());
+    for r in RULES {
+        assert!(names.contains(format!("rule-{}-failing.yaml", r.name).as_str()));
+    }
+    assert!(seeds.iter().all(|(_, text)| !text.is_empty()));
+    if let Some(dir) = std::env::var_os("FOLDCHECK_FUZZ_SEEDS") {
+        let dir = PathBuf::from(dir);
+        std::fs::create_dir_all(&dir).unwrap();
+        for (name, text) in &seeds {
+            std::fs::write(dir.join(name), text).unwrap();
+        }
+        println!("wrote {} seeds to {}", seeds.len(), dir.display());
+    }
 }

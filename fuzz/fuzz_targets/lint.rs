@@ -1,7 +1,8 @@
 //! Fuzz the whole pipeline on one in-memory rig: YAML, schema and quantities, includes,
 //! resolution, every rule, suppressions, and every renderer. Besides crashes, it checks
-//! what a renderer relies on: every span lies inside its file's text on character
-//! boundaries, the JSON report parses, and no message carries a position.
+//! that the fast YAML reader builds exactly serde-saphyr's tree whenever it takes a
+//! document, and what a renderer relies on: every span lies inside its file's text on
+//! character boundaries, the JSON report parses, and no message carries a position.
 
 #![no_main]
 
@@ -16,6 +17,9 @@ const NAME: &str = "/nonexistent-foldcheck-fuzz/input.rig.yaml";
 
 fuzz_target!(|data: &[u8]| {
     let text = String::from_utf8_lossy(data);
+    if let Some((fast, full)) = foldcheck::source::yaml::both_readers(0, &text) {
+        assert_eq!(Ok(fast), full, "the fast YAML reader disagrees with serde-saphyr");
+    }
     let (sources, findings) = lint_text(NAME, &text);
     for f in &findings {
         for label in std::iter::once(&f.primary).chain(&f.secondary) {

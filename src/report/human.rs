@@ -2,7 +2,7 @@
 
 use super::{Counts, plural};
 use crate::finding::{Finding, Label, Severity};
-use crate::source::{Sources, Span};
+use crate::source::{SourceFile, Sources, Span};
 use miette::{
     Diagnostic, GraphicalReportHandler, GraphicalTheme, LabeledSpan, MietteError,
     MietteSpanContents, SourceCode, SourceSpan, SpanContents,
@@ -19,31 +19,90 @@ pub enum Color {
     Never,
 }
 
-struct Report {
+/// A file's text as miette reads it: borrowed, not copied for every finding, and the
+/// lines around a span found through the file's line index instead of a scan from the
+/// start of the file (which made a report on a large file quadratic in its findings).
+#[derive(Clone, Copy)]
+struct FileSource<'a> {
+    file: &'a SourceFile,
+    language: Option<&'static str>,
+}
+
+impl FileSource<'_> {
+    fn name(&self) -> &str {
+        &self.file.display
+    }
+}
+
+impl SourceCode for FileSource<'_> {
+    fn read_span<'b>(
+        &'b self,
+        span: &SourceSpan,
+        context_lines_before: usize,
+        context_lines_after: usize,
+    ) -> Result<Box<dyn SpanContents<'b> + 'b>, MietteError> {
+        let text = self.file.text.as_str();
+        let lines = &self.file.lines;
+        let start = span.offset().min(text.len());
+        let end = (span.offset() + span.len()).min(text.len()).max(start);
+        // A window of whole lines, one more on each side than the context asked for;
+        // miette then reads the context inside it exactly as in the whole text.
+        let first = lines.line_col(text, start).0;
+        let last = lines.line_col(text, end).0;
+        let w_first = first.saturating_sub(context_lines_before + 1).max(1);
+        let w0 = lines.offset(text, w_first, 1);
+        let w1 = lines.offset(text, last + context_lines_after + 2, 1);
+        let window = &text[w0..w1];
+        let inner = window.read_span(
+            &SourceSpan::new((start - w0).into(), end - start),
+            context_lines_before,
+            context_lines_after,
+        )?;
+        let shift = w_first - 1;
+        // Columns count characters (as JSON, SARIF and SPEC §7 do), not bytes.
+        let at = (inner.span().offset() + w0).min(text.len());
+        let line_start = text[..at].rfind('\n').map_or(0, |i| i + 1);
+        let column = text.get(line_start..at).map_or(0, |s| s.chars().count());
+        let mut contents = MietteSpanContents::new_named(
+            self.file.display.clone(),
+            inner.data(),
+            SourceSpan::new((inner.span().offset() + w0).into(), inner.span().len()),
+            inner.line() + shift,
+            column,
+            inner.line_count() + shift,
+        );
+        if let Some(language) = self.language {
+            contents = contents.with_language(language);
+        }
+        Ok(Box::new(contents))
+    }
+}
+
+struct Report<'a> {
     message: String,
     rule: &'static str,
     severity: Severity,
     help: Option<String>,
-    source: Source,
+    source: FileSource<'a>,
     labels: Vec<LabeledSpan>,
-    related: Vec<Report>,
+    related: Vec<Report<'a>>,
 }
 
-impl fmt::Debug for Report {
+impl fmt::Debug for Report<'_> {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         f.write_str(&self.message)
     }
 }
 
-impl fmt::Display for Report {
+impl fmt::Display for Report<'_> {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         f.write_str(&self.message)
     }
 }
 
-impl std::error::Error for Report {}
+impl std::error::Error for Report<'_> {}
 
-impl Diagnostic for Report {
+impl Diagnostic for Report<'_> {
     fn code<'a>(&'a self) -> Option<Box<dyn fmt::Display + 'a>> {
         if self.rule.is_empty() {
             None
@@ -78,58 +137,11 @@ impl Diagnostic for Report {
     }
 }
 
-/// A named YAML text whose columns count characters (as the JSON and SARIF output and
-/// SPEC §7 do), not bytes.
-struct Source {
-    name: String,
-    text: String,
-}
-
-impl Source {
-    fn new(name: &str, text: &str) -> Self {
-        Source {
-            name: name.to_string(),
-            text: text.to_string(),
-        }
-    }
-}
-
-impl SourceCode for Source {
-    fn read_span<'a>(
-        &'a self,
-        span: &SourceSpan,
-        context_lines_before: usize,
-        context_lines_after: usize,
-    ) -> Result<Box<dyn SpanContents<'a> + 'a>, MietteError> {
-        let inner =
-            self.text
-                .as_str()
-                .read_span(span, context_lines_before, context_lines_after)?;
-        let start = inner.span().offset().min(self.text.len());
-        let line_start = self.text[..start].rfind('\n').map_or(0, |i| i + 1);
-        let column = self
-            .text
-            .get(line_start..start)
-            .map_or(0, |s| s.chars().count());
-        Ok(Box::new(
-            MietteSpanContents::new_named(
-                self.name.clone(),
-                inner.data(),
-                *inner.span(),
-                inner.line(),
-                column,
-                inner.line_count(),
-            )
-            .with_language("yaml"),
-        ))
-    }
-}
-
 fn source_span(span: Span) -> SourceSpan {
     SourceSpan::new((span.start as usize).into(), span.len())
 }
 
-fn build(sources: &Sources, f: &Finding) -> Report {
+fn build<'a>(sources: &'a Sources, f: &Finding) -> Report<'a> {
     let file = sources.get(f.primary.span.file);
     let mut labels = vec![LabeledSpan::new_primary_with_span(
         Some(f.primary.text.clone()),
@@ -151,14 +163,20 @@ fn build(sources: &Sources, f: &Finding) -> Report {
     for l in elsewhere {
         let other = sources.get(l.span.file);
         let label = LabeledSpan::new_with_span(Some(l.text.clone()), source_span(l.span));
-        match related.iter_mut().find(|r| r.source.name == other.display) {
+        match related
+            .iter_mut()
+            .find(|r| r.source.name() == other.display)
+        {
             Some(r) => r.labels.push(label),
             None => related.push(Report {
                 message: format!("in {}", other.display),
                 rule: "",
                 severity: Severity::Note,
                 help: None,
-                source: Source::new(&other.display, &other.text),
+                source: FileSource {
+                    file: other,
+                    language: None,
+                },
                 labels: vec![label],
                 related: Vec::new(),
             }),
@@ -169,7 +187,10 @@ fn build(sources: &Sources, f: &Finding) -> Report {
         rule: f.rule,
         severity: f.severity,
         help: f.help.clone(),
-        source: Source::new(&file.display, &file.text),
+        source: FileSource {
+            file,
+            language: Some("yaml"),
+        },
         labels,
         related,
     }

@@ -170,6 +170,16 @@ impl Sources {
         id
     }
 
+    /// Drop a file's text and line index once nothing will be rendered from it (a clean
+    /// rig in a large campaign), so memory follows the largest file, not the campaign.
+    /// Its id, path and display name stay.
+    pub fn release_text(&mut self, id: FileId) {
+        if let Some(f) = self.files.get_mut(id as usize) {
+            f.text = String::new();
+            f.lines = LineIndex::new("");
+        }
+    }
+
     /// The file with this id.
     pub fn get(&self, id: FileId) -> &SourceFile {
         &self.files[id as usize]

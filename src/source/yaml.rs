@@ -144,6 +144,35 @@ pub struct SyntaxError {
 
 /// Parse one YAML document into a node tree.
 pub fn parse(file: FileId, text: &str, lines: &LineIndex) -> Result<Node, SyntaxError> {
+    let node = match fast::parse(file, text) {
+        Some(node) => node,
+        None => parse_with_serde(file, text, lines)?,
+    };
+    Ok(empty_at_start(node))
+}
+
+/// An empty document points at the start of the file.
+fn empty_at_start(mut node: Node) -> Node {
+    if let NodeKind::Null = node.kind {
+        node.span = Span::point(node.span.file, 0);
+    }
+    node
+}
+
+/// Both readers on one text, for differential tests and fuzzing: the fast path's tree
+/// and serde-saphyr's, when the fast path takes the document (`None` otherwise).
+#[doc(hidden)]
+pub fn both_readers(file: FileId, text: &str) -> Option<(Node, Result<Node, SyntaxError>)> {
+    let fast = empty_at_start(fast::parse(file, text)?);
+    let full = parse_with_serde(file, text, &LineIndex::new(text)).map(empty_at_start);
+    Some((fast, full))
+}
+
+/// The full reader: serde-saphyr with its budgets, anchors and aliases, merge keys,
+/// tags, every scalar form, and its error messages. [`parse`] falls back to it; public
+/// for the benchmark.
+#[doc(hidden)]
+pub fn parse_with_serde(file: FileId, text: &str, lines: &LineIndex) -> Result<Node, SyntaxError> {
     let mut options = serde_saphyr::Options::default();
     options.strict_booleans = true;
     options.with_snippet = false;
@@ -159,12 +188,242 @@ pub fn parse(file: FileId, text: &str, lines: &LineIndex) -> Result<Node, Syntax
     options.alias_limits.max_total_replayed_events = MAX_ALIAS_NODES;
     let raw: Spanned<Raw> = serde_saphyr::from_str_with_options(text, options)
         .map_err(|e| syntax_error(file, text, lines, &e))?;
-    let mut node = convert(file, text, lines, raw);
-    if let NodeKind::Null = node.kind {
-        // An empty document: point at its start.
-        node.span = Span::point(file, 0);
+    Ok(convert(file, text, lines, raw))
+}
+
+/// The common case, fast: a single document with no anchors, aliases or tags, no
+/// duplicate keys, no nesting deeper than [`MAX_DEPTH`], and scalars whose type is plain
+/// to see, is built straight from the event parser that serde-saphyr itself uses
+/// (granit-parser), with the same spans. Anything else (including every error) returns
+/// `None`, and the document is read again by [`parse_with_serde`], so that budgets, alias
+/// handling and messages stay serde-saphyr's. `tests` check that both paths agree.
+mod fast {
+    use super::{MAX_DEPTH, MAX_NODES, Node, NodeKind, close_flow};
+    use crate::source::{FileId, Span};
+    use serde_saphyr::granit_parser::{Event, Parser, ScalarStyle};
+    use std::collections::HashSet;
+
+    enum Frame {
+        Seq {
+            start: Span,
+            items: Vec<Node>,
+        },
+        Map {
+            start: Span,
+            entries: Vec<(Node, Node)>,
+            key: Option<Node>,
+        },
     }
-    Ok(node)
+
+    fn span_of(file: FileId, span: &serde_saphyr::granit_parser::Span) -> Option<Span> {
+        let start = span.start.byte_offset()?;
+        let end = span.end.byte_offset()?;
+        Some(Span::new(file, start, end.max(start)))
+    }
+
+    /// The type of a plain scalar, when it is beyond doubt; `None` sends the document to
+    /// serde-saphyr (numbers in other notations, `.inf`, `True`, `0x1F`, `1e3` …).
+    fn plain(v: &str) -> Option<NodeKind> {
+        match v {
+            "" | "~" | "null" | "Null" | "NULL" => return Some(NodeKind::Null),
+            "true" => return Some(NodeKind::Bool(true)),
+            "false" => return Some(NodeKind::Bool(false)),
+            _ => {}
+        }
+        let first = v.as_bytes()[0];
+        if first.is_ascii_alphabetic() {
+            let lower = v.to_ascii_lowercase();
+            let special = ["null", "true", "false", "yes", "no", "on", "off", "y", "n"];
+            if special.contains(&lower.as_str()) {
+                return None;
+            }
+            return Some(NodeKind::Str(v.to_string()));
+        }
+        if !(first.is_ascii_digit() || matches!(first, b'+' | b'-' | b'.')) {
+            return Some(NodeKind::Str(v.to_string()));
+        }
+        let unsigned = v.strip_prefix('-').unwrap_or(v);
+        let (int, frac) = match unsigned.split_once('.') {
+            Some((i, f)) => (i, Some(f)),
+            None => (unsigned, None),
+        };
+        let digits = |s: &str| !s.is_empty() && s.bytes().all(|b| b.is_ascii_digit());
+        let canonical_int = digits(int) && (int == "0" || !int.starts_with('0')) && int.len() <= 18;
+        match frac {
+            None if canonical_int => return v.parse::<i64>().ok().map(|i| NodeKind::Int(i.into())),
+            Some(f) if canonical_int && digits(f) && f.len() <= 17 => {
+                return v.parse::<f64>().ok().map(NodeKind::Float);
+            }
+            _ => {}
+        }
+        // A character that no YAML number, infinity or NaN holds makes it text: `10 kHz`,
+        // `../catalog.yaml`, `1.5x`.
+        let number_like = |b: u8| b.is_ascii_hexdigit() || b"xXoO._+-iInN".contains(&b);
+        if !v.bytes().all(number_like) {
+            return Some(NodeKind::Str(v.to_string()));
+        }
+        None
+    }
+
+    fn collection(start: Span, kind: NodeKind, last: Option<Span>, text: &str) -> Node {
+        let mut span = start;
+        if let Some(last) = last {
+            span = span.join(&last);
+        }
+        let span = match kind {
+            NodeKind::Seq(_) => close_flow(text, span, b'[', b']'),
+            _ => close_flow(text, span, b'{', b'}'),
+        };
+        Node { span, kind }
+    }
+
+    /// Add a finished node to its parent; `false` for a duplicate, merge or non-text key.
+    fn place(
+        stack: &mut [Frame],
+        node: Node,
+        root: &mut Option<Node>,
+        keys: &mut [HashSet<String>],
+    ) -> bool {
+        match stack.last_mut() {
+            None => {
+                *root = Some(node);
+                true
+            }
+            Some(Frame::Seq { items, .. }) => {
+                items.push(node);
+                true
+            }
+            Some(Frame::Map { entries, key, .. }) => match key.take() {
+                None => {
+                    // Only text keys; `<<` is a merge key, which serde-saphyr expands.
+                    let Some(k) = node.as_str().filter(|k| *k != "<<") else {
+                        return false;
+                    };
+                    // Small mappings (nearly all) are searched; a large one gets a set.
+                    const SEARCHED: usize = 16;
+                    let seen = keys.last_mut().expect("a key set per mapping");
+                    if entries.len() < SEARCHED {
+                        if entries.iter().any(|(e, _)| e.as_str() == Some(k)) {
+                            return false;
+                        }
+                    } else {
+                        if seen.is_empty() {
+                            seen.extend(
+                                entries
+                                    .iter()
+                                    .filter_map(|(e, _)| e.as_str())
+                                    .map(str::to_string),
+                            );
+                        }
+                        if !seen.insert(k.to_string()) {
+                            return false;
+                        }
+                    }
+                    *key = Some(node);
+                    true
+                }
+                Some(k) => {
+                    entries.push((k, node));
+                    true
+                }
+            },
+        }
+    }
+
+    /// The tree of a document in the common case, or `None` (see the module).
+    pub(super) fn parse(file: FileId, text: &str) -> Option<Node> {
+        let mut stack: Vec<Frame> = Vec::new();
+        let mut keys: Vec<HashSet<String>> = Vec::new();
+        let mut root: Option<Node> = None;
+        let mut documents = 0;
+        let mut nodes = 0usize;
+        for ev in Parser::new_from_str(text) {
+            let (event, span) = ev.ok()?;
+            match event {
+                Event::StreamStart | Event::DocumentEnd | Event::StreamEnd => {}
+                #[allow(unreachable_patterns)]
+                Event::Comment(..) => {}
+                Event::DocumentStart(..) => {
+                    documents += 1;
+                    if documents > 1 {
+                        return None;
+                    }
+                }
+                Event::Scalar(value, style, anchor, tag) => {
+                    if anchor != 0 || tag.is_some() {
+                        return None;
+                    }
+                    nodes += 1;
+                    let kind = match style {
+                        ScalarStyle::Plain => plain(&value)?,
+                        _ => NodeKind::Str(value.into_owned()),
+                    };
+                    let node = Node {
+                        span: span_of(file, &span)?,
+                        kind,
+                    };
+                    if !place(&mut stack, node, &mut root, &mut keys) {
+                        return None;
+                    }
+                }
+                Event::SequenceStart(_, anchor, ref tag)
+                | Event::MappingStart(_, anchor, ref tag) => {
+                    if anchor != 0 || tag.is_some() || stack.len() >= MAX_DEPTH {
+                        return None;
+                    }
+                    nodes += 1;
+                    let start = span_of(file, &span)?;
+                    if matches!(event, Event::SequenceStart(..)) {
+                        stack.push(Frame::Seq {
+                            start,
+                            items: Vec::new(),
+                        });
+                    } else {
+                        stack.push(Frame::Map {
+                            start,
+                            entries: Vec::new(),
+                            key: None,
+                        });
+                        keys.push(HashSet::new());
+                    }
+                }
+                Event::SequenceEnd | Event::MappingEnd => {
+                    let node = match stack.pop()? {
+                        Frame::Seq { start, items } => {
+                            let last = items.last().map(|n| n.span);
+                            collection(start, NodeKind::Seq(items), last, text)
+                        }
+                        Frame::Map {
+                            start,
+                            entries,
+                            key,
+                        } => {
+                            keys.pop();
+                            if key.is_some() {
+                                return None;
+                            }
+                            let last = entries.last().map(|(_, v)| v.span);
+                            collection(start, NodeKind::Map(entries), last, text)
+                        }
+                    };
+                    if !place(&mut stack, node, &mut root, &mut keys) {
+                        return None;
+                    }
+                }
+                _ => return None,
+            }
+            if nodes > MAX_NODES {
+                return None;
+            }
+        }
+        if !stack.is_empty() {
+            return None;
+        }
+        Some(root.unwrap_or(Node {
+            span: Span::point(file, 0),
+            kind: NodeKind::Null,
+        }))
+    }
 }
 
 fn syntax_error(
@@ -438,6 +697,99 @@ impl<'de> Visitor<'de> for RawVisitor {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// The fast path must build exactly serde-saphyr's tree, or decline.
+    fn agree(text: &str) -> bool {
+        match both_readers(0, text) {
+            None => false,
+            Some((fast, slow)) => {
+                assert_eq!(Ok(fast), slow, "the readers disagree on {text:?}");
+                true
+            }
+        }
+    }
+
+    #[test]
+    fn fast_reader_builds_serde_saphyrs_tree() {
+        let mut taken = 0;
+        let mut texts: Vec<String> = Vec::new();
+        for r in crate::rules::RULES {
+            texts.push(r.failing.to_string());
+            texts.push(r.passing.to_string());
+        }
+        let examples = concat!(env!("CARGO_MANIFEST_DIR"), "/examples");
+        for dir in [examples.to_string(), format!("{examples}/catalog")] {
+            for e in std::fs::read_dir(dir).unwrap() {
+                let p = e.unwrap().path();
+                if p.extension().is_some_and(|x| x == "yaml") {
+                    texts.push(std::fs::read_to_string(p).unwrap());
+                }
+            }
+        }
+        for t in [
+            "a: 1\nb: -2\nc: 2.5\nd: -0.125\ne: 10 kHz\nf: ~\ng: null\nh: true\ni: false\n",
+            "a: [1, 2, {b: c}]\nd: {e: [f, 'g', \"h\"]}\n",
+            "- a\n- - b\n  - c\n-\n- {}\n- []\n",
+            "a: |\n  text\n  more\nb: >\n  folded\n",
+            "# comment\na: 1 # trailing\n\n# more\n",
+            "k: v\n",
+            "",
+            "plain text",
+            "a:\n  b:\n    c: 0\n",
+            "x: µs and unicode ü\ny: \"\\u00e9\"\n",
+            "a: 18446744073709551615\n",
+            "a: 0.1\nb: 1.0\nc: 100.25\nd: 0\ne: -0\n",
+        ] {
+            texts.push(t.to_string());
+        }
+        for t in &texts {
+            if agree(t) {
+                taken += 1;
+            }
+        }
+        assert!(
+            taken * 10 >= texts.len() * 9,
+            "the fast path took only {taken} of {}",
+            texts.len()
+        );
+    }
+
+    #[test]
+    fn fast_reader_declines_what_serde_saphyr_must_judge() {
+        for t in [
+            "a: &x 1\nb: *x\n",
+            "a: !!str 1\n",
+            "a: 1\na: 2\n",
+            "a: 0x1F\n",
+            "a: 1e3\n",
+            "a: .inf\n",
+            "a: True\n",
+            "a: yes\n",
+            "a: 007\n",
+            "---\na: 1\n---\nb: 2\n",
+            "a: [1, 2\n",
+            "? [a, b]\n: c\n",
+            "<<: {a: 1}\n",
+        ] {
+            assert!(both_readers(0, t).is_none() || agree(t), "{t:?}");
+        }
+        assert!(both_readers(0, "a: &x 1\nb: *x\n").is_none());
+        assert!(both_readers(0, "a: 1\na: 2\n").is_none());
+        assert!(both_readers(0, &"[".repeat(100)).is_none());
+        // Duplicates past the searched length of a mapping, and early in it.
+        let many: String = (0..40).map(|i| format!("k{i}: {i}\n")).collect();
+        assert!(agree(&many));
+        for dup in ["k3: x\n", "k30: x\n"] {
+            let text = format!("{many}{dup}");
+            assert!(both_readers(0, &text).is_none(), "{dup}");
+            let e = parse(0, &text, &LineIndex::new(&text)).unwrap_err();
+            assert!(
+                e.message.starts_with("duplicate mapping key"),
+                "{}",
+                e.message
+            );
+        }
+    }
 
     fn parse_str(text: &str) -> Result<Node, SyntaxError> {
         parse(0, text, &LineIndex::new(text))
