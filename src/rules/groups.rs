@@ -2,9 +2,11 @@
 
 use super::{Rule, Stage};
 use crate::finding::{Finding, Severity, round_to};
+use crate::model::Group;
 use crate::model::quantity::{format_hz, sig6, to_f64};
 use crate::resolve::Rig;
 use crate::resolve::chain::Chain;
+use crate::source::Span;
 
 /// `group-clock`.
 pub static GROUP_CLOCK: Rule = Rule {
@@ -77,12 +79,7 @@ fn check_clock(rig: &Rig, out: &mut Vec<Finding>) {
         let root_of = |c: usize| rig.channels[c].clock.and_then(|k| rig.clocks[k].root);
         let final_of = |c: usize| Chain::new(rig, &rig.channels[c]).map(|ch| ch.final_rate());
         let name_of = |c: usize| rig.channels[c].def.name.value.as_str();
-        let ref_span = |c: usize| {
-            g.channels
-                .iter()
-                .find(|r| r.value == name_of(c))
-                .map_or(g.name.span, |r| r.span)
-        };
+        let ref_span = |c: usize| member_span(g, name_of(c));
         if let Some(&other) = members.iter().find(|&&c| root_of(c) != root_of(first)) {
             let root_name =
                 |c: usize| root_of(c).map_or("?", |r| rig.clocks[r].def.name.value.as_str());
@@ -129,6 +126,14 @@ fn check_clock(rig: &Rig, out: &mut Vec<Finding>) {
             );
         }
     }
+}
+
+/// Where a group names a member (the group's name when it is not listed by name).
+fn member_span(g: &Group, name: &str) -> Span {
+    g.channels
+        .iter()
+        .find(|r| r.value == name)
+        .map_or(g.name.span, |r| r.span)
 }
 
 /// `group-phase`.
@@ -222,12 +227,7 @@ fn check_phase(rig: &Rig, out: &mut Vec<Finding>) {
             continue;
         }
         let name_of = |c: usize| rig.channels[c].def.name.value.as_str();
-        let ref_span = |c: usize| {
-            g.channels
-                .iter()
-                .find(|r| r.value == name_of(c))
-                .map_or(g.name.span, |r| r.span)
-        };
+        let ref_span = |c: usize| member_span(g, name_of(c));
         let mut finding = GROUP_PHASE
             .finding(ref_span(hi.0), format!("{} deg at {}", sig6(round_to(hi.1, 2)), format_hz(f)), format!(
                 "in group `{}`, the chains of `{}` and `{}` differ by {} deg at {}, more than the {} deg tolerance",
