@@ -780,7 +780,11 @@ mod tests {
             let text = format!("{many}{dup}");
             assert!(both_readers(0, &text).is_none(), "{dup}");
             let e = parse(0, &text, &LineIndex::new(&text)).unwrap_err();
-            assert!(e.message.starts_with("duplicate mapping key"), "{}", e.message);
+            assert!(
+                e.message.starts_with("duplicate mapping key"),
+                "{}",
+                e.message
+            );
         }
     }
 
