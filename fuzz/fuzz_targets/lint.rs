@@ -18,7 +18,11 @@ const NAME: &str = "/nonexistent-foldcheck-fuzz/input.rig.yaml";
 fuzz_target!(|data: &[u8]| {
     let text = String::from_utf8_lossy(data);
     if let Some((fast, full)) = foldcheck::source::yaml::both_readers(0, &text) {
-        assert_eq!(Ok(fast), full, "the fast YAML reader disagrees with serde-saphyr");
+        assert_eq!(
+            Ok(fast),
+            full,
+            "the fast YAML reader disagrees with serde-saphyr"
+        );
     }
     let (sources, findings) = lint_text(NAME, &text);
     for f in &findings {
