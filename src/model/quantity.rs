@@ -350,15 +350,15 @@ pub fn to_f64(v: &Exact) -> f64 {
 /// Format a frequency in the largest unit that keeps the value ≥ 1, with up to 6
 /// significant digits: `51.2 kHz`, `44.1 kHz`, `3.33333 MHz`.
 pub fn format_hz(hz: f64) -> String {
-    let (scale, unit) = if hz.abs() >= 1e9 {
-        (1e9, "GHz")
-    } else if hz.abs() >= 1e6 {
-        (1e6, "MHz")
-    } else if hz.abs() >= 1e3 {
-        (1e3, "kHz")
-    } else {
-        (1.0, "Hz")
-    };
+    // Choose the unit after rounding to 6 significant digits, so 999 999.7 Hz is
+    // "1 MHz", not "1000 kHz".
+    let units = [(1e9, "GHz"), (1e6, "MHz"), (1e3, "kHz"), (1.0, "Hz")];
+    let rounded = sig6(hz).parse::<f64>().unwrap_or(hz);
+    let (scale, unit) = units
+        .iter()
+        .copied()
+        .find(|(scale, _)| rounded.abs() >= *scale)
+        .unwrap_or((1.0, "Hz"));
     format!("{} {unit}", sig6(hz / scale))
 }
 
@@ -488,5 +488,9 @@ mod tests {
         assert_eq!(format_hz(10_000_000.0 / 3.0), "3.33333 MHz");
         assert_eq!(format_hz(750.0), "750 Hz");
         assert_eq!(format_hz(1_000.0), "1 kHz");
+        // Regression: the unit was chosen before rounding.
+        assert_eq!(format_hz(999_999.7), "1 MHz");
+        assert_eq!(format_hz(999.9999), "1 kHz");
+        assert_eq!(format_hz(0.5), "0.5 Hz");
     }
 }
