@@ -10,14 +10,7 @@
 use foldcheck::model::quantity::{Exact, Kind, format_hz, parse, to_f64};
 use proptest::prelude::*;
 
-const KINDS: [Kind; 6] = [
-    Kind::Frequency,
-    Kind::Level,
-    Kind::Phase,
-    Kind::DataSize,
-    Kind::DataRate,
-    Kind::Duration,
-];
+const KINDS: [Kind; 6] = Kind::ALL;
 
 fn kind() -> impl Strategy<Value = Kind> {
     proptest::sample::select(KINDS.to_vec())

@@ -27,6 +27,16 @@ pub enum Kind {
 }
 
 impl Kind {
+    /// Every kind, for looking a unit up across kinds.
+    pub const ALL: [Kind; 6] = [
+        Kind::Frequency,
+        Kind::Level,
+        Kind::Phase,
+        Kind::DataSize,
+        Kind::DataRate,
+        Kind::Duration,
+    ];
+
     /// The word for messages.
     pub fn noun(self) -> &'static str {
         match self {
@@ -110,15 +120,6 @@ const RATE_UNITS: [(&str, i128, i128); 9] = [
     ("MiB/s", 1 << 20, 1),
     ("GiB/s", 1 << 30, 1),
     ("TiB/s", 1 << 40, 1),
-];
-
-const ALL_KINDS: [Kind; 6] = [
-    Kind::Frequency,
-    Kind::Level,
-    Kind::Phase,
-    Kind::DataSize,
-    Kind::DataRate,
-    Kind::Duration,
 ];
 
 /// Why a quantity was refused: a message and an optional help line.
@@ -247,7 +248,7 @@ pub fn parse(text: &str, kind: Kind) -> Result<Exact, QuantityError> {
             )),
         ));
     }
-    if let Some(other) = ALL_KINDS
+    if let Some(other) = Kind::ALL
         .iter()
         .find(|k| k.units().iter().any(|u| u.0 == unit))
     {
