@@ -75,6 +75,33 @@ pub struct Finding {
     pub values: Map<String, Value>,
     /// The reason given by a suppression comment that covers this finding.
     pub suppressed: Option<String>,
+    /// The subject key path this finding is about (`channel/<name>`,
+    /// `group/<name>/pair/<a>/<b>`, `channels/<name>/filters/2/cutoff`, ...): with the
+    /// rule and the owner it makes the finding's fingerprint (docs/output.md).
+    pub subject: Option<String>,
+    /// The fingerprint (16 lowercase hex digits), set once the campaign is known.
+    pub fingerprint: Option<String>,
+    /// A machine-readable fix: present only once it has been verified (applying it
+    /// removes this finding and adds nothing at warning or above).
+    pub fix: Option<Fix>,
+}
+
+/// One text edit: replace the bytes of `span` (end exclusive) with `replacement`.
+#[derive(Clone, Debug, PartialEq, Eq, Hash)]
+pub struct Edit {
+    /// The bytes to replace (file and byte range).
+    pub span: Span,
+    /// The new text.
+    pub replacement: String,
+}
+
+/// A change that removes a finding: byte-exact edits and what they do in words.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Fix {
+    /// What the edits do, e.g. "divide `osc` by 256 instead of 512".
+    pub description: String,
+    /// The edits, in no particular order; they never overlap.
+    pub edits: Vec<Edit>,
 }
 
 impl Finding {
@@ -95,6 +122,9 @@ impl Finding {
             channel: None,
             values: Map::new(),
             suppressed: None,
+            subject: None,
+            fingerprint: None,
+            fix: None,
         }
     }
 
@@ -119,6 +149,18 @@ impl Finding {
     /// Name the channel.
     pub fn with_channel(mut self, channel: &str) -> Self {
         self.channel = Some(channel.to_string());
+        self
+    }
+
+    /// Set the subject key path (see [`Finding::subject`]).
+    pub fn with_subject(mut self, subject: impl Into<String>) -> Self {
+        self.subject = Some(subject.into());
+        self
+    }
+
+    /// Attach a proposed fix (it is kept only if verification confirms it).
+    pub fn with_fix(mut self, fix: Fix) -> Self {
+        self.fix = Some(fix);
         self
     }
 
