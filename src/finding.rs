@@ -84,6 +84,12 @@ pub struct Finding {
     /// A machine-readable fix: present only once it has been verified (applying it
     /// removes this finding and adds nothing at warning or above).
     pub fix: Option<Fix>,
+    /// The help to show when the proposed [`Finding::fix`] is not verified and is
+    /// dropped. A rule that proposes a fix writes `help` from the candidate (it names
+    /// the change) and this from the generic advice, so the help never proposes a
+    /// change that does not work. `None` with a fix proposed: the help is dropped with
+    /// the fix.
+    pub help_without_fix: Option<String>,
 }
 
 /// One text edit: replace the bytes of `span` (end exclusive) with `replacement`.
@@ -125,6 +131,7 @@ impl Finding {
             subject: None,
             fingerprint: None,
             fix: None,
+            help_without_fix: None,
         }
     }
 
@@ -162,6 +169,28 @@ impl Finding {
     pub fn with_fix(mut self, fix: Fix) -> Self {
         self.fix = Some(fix);
         self
+    }
+
+    /// Propose a fix together with the two help lines: `help` names the change (shown
+    /// when the fix is verified), `generic` is the advice shown when it is not.
+    pub fn with_fix_and_help(
+        mut self,
+        fix: Fix,
+        help: impl Into<String>,
+        generic: Option<String>,
+    ) -> Self {
+        self.fix = Some(fix);
+        self.help = Some(help.into());
+        self.help_without_fix = generic;
+        self
+    }
+
+    /// Drop the proposed fix (it did not pass verification) and fall back to the help
+    /// that does not propose it.
+    pub fn drop_fix(&mut self) {
+        if self.fix.take().is_some() {
+            self.help = self.help_without_fix.take();
+        }
     }
 
     /// Add a machine-readable value. Non-finite numbers are clamped (JSON has no
