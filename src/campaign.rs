@@ -524,28 +524,6 @@ pub fn normalize(p: &Path) -> PathBuf {
     out
 }
 
-/// Why a path that is not a regular file cannot be linted.
-fn not_regular(meta: &std::fs::Metadata) -> String {
-    let t = meta.file_type();
-    if t.is_dir() {
-        return "is a directory, not a regular file".to_string();
-    }
-    #[cfg(unix)]
-    {
-        use std::os::unix::fs::FileTypeExt;
-        if t.is_fifo() {
-            return "is a named pipe (FIFO), not a regular file".to_string();
-        }
-        if t.is_socket() {
-            return "is a socket, not a regular file".to_string();
-        }
-        if t.is_char_device() || t.is_block_device() {
-            return "is a device, not a regular file".to_string();
-        }
-    }
-    "not a regular file".to_string()
-}
-
 /// The finding for a file over the size limit (`size` when it is known up front).
 fn too_large(id: FileId, size: Option<u64>, limit: u64) -> Finding {
     let what = match size {
@@ -568,7 +546,7 @@ fn read_file(ctx: &Ctx, path: &Path, display: String) -> Result<(FileId, Option<
     use std::io::Read;
     let meta = std::fs::metadata(path).map_err(|e| e.to_string())?;
     if !meta.is_file() {
-        return Err(not_regular(&meta));
+        return Err(crate::source::not_regular_file(&meta));
     }
     let limit = ctx.max_file_bytes;
     let add_empty = |display: String| {

@@ -35,6 +35,25 @@ impl Severity {
     }
 }
 
+/// The input rules (docs/format.md, "Input rules"): they say the file could not be read
+/// as a rig, so they are always errors. A settings file may not name them and a
+/// suppression comment may not silence them.
+pub const INPUT_RULES: &[&str] = &[
+    "yaml-syntax",
+    "schema",
+    "quantity",
+    "duplicate-name",
+    "unknown-reference",
+    "include",
+    "clock-cycle",
+    "missing-band",
+];
+
+/// Whether `rule` is one of the [`INPUT_RULES`].
+pub fn is_input_rule(rule: &str) -> bool {
+    INPUT_RULES.contains(&rule)
+}
+
 /// A span with a short text.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Label {

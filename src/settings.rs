@@ -123,6 +123,23 @@ pub fn discover(dir: &Path) -> Option<PathBuf> {
 
 /// Read and check a settings file.
 pub fn load(path: &Path) -> Result<Settings, SettingsError> {
+    let refuse = |message: String| SettingsError {
+        path: path.to_path_buf(),
+        text: String::new(),
+        span: None,
+        message,
+    };
+    // Only a regular file is opened: reading a named pipe with no writer would block.
+    match std::fs::metadata(path) {
+        Ok(m) if !m.is_file() => {
+            return Err(refuse(format!(
+                "cannot read it: {}",
+                crate::source::not_regular_file(&m)
+            )));
+        }
+        Err(e) => return Err(refuse(format!("cannot read it: {e}"))),
+        Ok(_) => {}
+    }
     let text = std::fs::read_to_string(path).map_err(|e| SettingsError {
         path: path.to_path_buf(),
         text: String::new(),
@@ -156,6 +173,14 @@ pub fn parse(path: &Path, text: &str) -> Result<Settings, SettingsError> {
             return Err(err(
                 Some(level.span()),
                 format!("unknown rule `{name}`{hint}"),
+            ));
+        }
+        if crate::finding::is_input_rule(&name) {
+            return Err(err(
+                Some(level.span()),
+                format!(
+                    "`{name}` is an input rule: it is always an error and cannot be configured"
+                ),
             ));
         }
         let l = match level.get_ref().as_str() {

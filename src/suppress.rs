@@ -27,57 +27,49 @@ pub struct Suppression {
     pub used: bool,
 }
 
-/// Find a comment's start on a line: `#` at the start or after whitespace, outside quotes.
-fn comment_start(line: &str) -> Option<usize> {
-    let (mut single, mut double) = (false, false);
-    let mut prev_ws = true;
-    let bytes = line.as_bytes();
-    let mut i = 0;
-    while i < bytes.len() {
-        let b = bytes[i];
-        match b {
-            b'\'' if !double => single = !single,
-            b'"' if !single => double = !double,
-            b'\\' if double => i += 1,
-            b'#' if !single && !double && prev_ws => return Some(i),
-            _ => {}
+/// The byte ranges of the text's YAML comments (from `#` to the end of the line), as
+/// the YAML parser reads them: a `#` inside a quoted or block scalar is text, not a
+/// comment. Reading stops at a syntax error (the file's `yaml-syntax` finding says
+/// where).
+fn comments(text: &str) -> Vec<(usize, usize)> {
+    use serde_saphyr::granit_parser::{Event, Parser};
+    let mut out = Vec::new();
+    for ev in Parser::new_from_str(text) {
+        let Ok((event, span)) = ev else { break };
+        if let Event::Comment(..) = event
+            && let (Some(start), Some(end)) = (span.start.byte_offset(), span.end.byte_offset())
+            && start < end
+            && end <= text.len()
+        {
+            out.push((start, end));
         }
-        prev_ws = b == b' ' || b == b'\t';
-        i += 1;
     }
-    None
+    out
 }
 
-/// Scan a file for suppression comments, and work out what each covers.
+/// Scan a file's YAML comments for suppressions, and work out what each covers.
 pub fn scan(
     file: FileId,
     text: &str,
     lines: &LineIndex,
     root: Option<&Node>,
 ) -> (Vec<Suppression>, Vec<Finding>) {
-    let mut starts: Vec<(usize, Span)> = Vec::new(); // (line, span) of nodes that start on a line
+    let mut out = Vec::new();
+    let mut findings = Vec::new();
+    if !text.contains(MARKER) {
+        return (out, findings);
+    }
+    // (line, span) of the nodes that start on a line, in document order.
+    let mut starts: Vec<(usize, Span)> = Vec::new();
     if let Some(root) = root {
         collect(root, text, lines, &mut starts);
     }
-    let mut out = Vec::new();
-    let mut findings = Vec::new();
-    let mut offset = 0;
-    let all_lines: Vec<&str> = text.split_inclusive('\n').collect();
-    for (li, line) in all_lines.iter().enumerate() {
-        let line_start = offset;
-        offset += line.len();
-        let Some(c) = comment_start(line) else {
+    let line_of = |offset: usize| lines.line_col(text, offset).0;
+    for (start, end) in comments(text) {
+        let Some(rest) = text[start + 1..end].trim().strip_prefix(MARKER) else {
             continue;
         };
-        let body = line[c + 1..].trim_end_matches(['\n', '\r']).trim();
-        let Some(rest) = body.strip_prefix(MARKER) else {
-            continue;
-        };
-        let comment = Span::new(
-            file,
-            line_start + c,
-            line_start + line.trim_end_matches(['\n', '\r']).len(),
-        );
+        let comment = Span::new(file, start, end);
         let rest = rest.trim();
         let Some(list) = rest.strip_prefix("allow") else {
             findings.push(
@@ -100,20 +92,24 @@ pub fn scan(
             .map(|s| s.trim().to_string())
             .filter(|s| !s.is_empty())
             .collect();
-        let own_line = line[..c].trim().is_empty();
+        let line_start = text[..start].rfind(['\n', '\r']).map_or(0, |i| i + 1);
+        let own_line = text[line_start..start]
+            .chars()
+            .all(|c| c.is_whitespace() || c == '\u{feff}');
         let target_line = if own_line {
-            // The next line that holds something other than blanks and comments.
-            (li + 1..all_lines.len()).find(|&l| {
-                let t = all_lines[l].trim();
-                !t.is_empty() && !t.starts_with('#')
-            })
+            // The line of the first node that starts after the comment.
+            starts
+                .iter()
+                .filter(|(_, s)| s.start as usize >= end)
+                .min_by_key(|(_, s)| s.start)
+                .map(|(l, _)| *l)
         } else {
-            Some(li)
+            Some(line_of(start))
         };
         let covers = target_line.and_then(|l| {
             starts
                 .iter()
-                .filter(|(sl, _)| *sl == l + 1)
+                .filter(|(sl, _)| *sl == l)
                 .max_by_key(|(_, s)| s.len())
                 .map(|(_, s)| *s)
         });
@@ -165,6 +161,39 @@ fn collect(node: &Node, text: &str, lines: &LineIndex, out: &mut Vec<(usize, Spa
 /// Mark findings covered by suppressions, and report unused or malformed suppressions.
 pub fn apply(sups: &mut [Suppression], findings: &mut [Finding], out: &mut Vec<Finding>) {
     for s in sups.iter_mut() {
+        let input: Vec<String> = s
+            .rules
+            .iter()
+            .filter(|r| crate::finding::is_input_rule(r))
+            .cloned()
+            .collect();
+        if !input.is_empty() {
+            out.push(
+                Finding::new(
+                    "suppression",
+                    Severity::Warning,
+                    Label::new(s.comment, "cannot be suppressed"),
+                    format!(
+                        "{} {}, which a comment cannot suppress",
+                        input
+                            .iter()
+                            .map(|r| format!("`{r}`"))
+                            .collect::<Vec<_>>()
+                            .join(", "),
+                        if input.len() == 1 {
+                            "is an input rule"
+                        } else {
+                            "are input rules"
+                        }
+                    ),
+                )
+                .with_help("fix the value instead: input rules say the file could not be read as a rig, so they are always errors"),
+            );
+            s.rules.retain(|r| !crate::finding::is_input_rule(r));
+            if s.rules.is_empty() {
+                continue;
+            }
+        }
         let unknown: Vec<&String> = s
             .rules
             .iter()

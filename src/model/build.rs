@@ -396,6 +396,8 @@ impl<'a> Builder<'a> {
                     "decimate" => c.decimate = b.list(v, Self::stage),
                     "alias-rejection" => c.alias_rejection = b.db_positive(v),
                     "sample-bits" => c.sample_bits = b.small(v, 1, 64),
+                    // `x-` keys are the lab's own metadata, free at any level.
+                    k if k.starts_with("x-") => {}
                     // An unknown key (reported by the schema) may be a misspelt one:
                     // the channel is not checked further, so a typo gives one finding.
                     _ => b.broken = true,

@@ -115,6 +115,29 @@ impl LineIndex {
     }
 }
 
+/// Why a path that is not a regular file cannot be read: "is a directory, not a regular
+/// file", "is a named pipe (FIFO), not a regular file" …
+pub fn not_regular_file(meta: &std::fs::Metadata) -> String {
+    let t = meta.file_type();
+    if t.is_dir() {
+        return "is a directory, not a regular file".to_string();
+    }
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::FileTypeExt;
+        if t.is_fifo() {
+            return "is a named pipe (FIFO), not a regular file".to_string();
+        }
+        if t.is_socket() {
+            return "is a socket, not a regular file".to_string();
+        }
+        if t.is_char_device() || t.is_block_device() {
+            return "is a device, not a regular file".to_string();
+        }
+    }
+    "not a regular file".to_string()
+}
+
 /// One loaded file.
 #[derive(Debug)]
 pub struct SourceFile {

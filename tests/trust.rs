@@ -1,0 +1,220 @@
+//! Trust on every input: regressions for inputs that were dropped, smuggled, shown raw,
+//! located wrongly or answered differently from run to run. Each test is named after
+//! what broke and pins the exact findings (`severity rule line:col-line:col message`).
+
+mod common;
+
+use foldcheck::campaign::lint_text;
+use foldcheck::report::json;
+
+/// The findings of one in-memory rig in the plain expected-file form (without help).
+fn lint(text: &str) -> Vec<String> {
+    let (sources, findings) = lint_text("/nonexistent-foldcheck-trust/probe.rig.yaml", text);
+    let report: serde_json::Value =
+        serde_json::from_str(&json::render(&sources, &findings, 1, 0)).unwrap();
+    report["findings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|f| {
+            let p = common::plain(f);
+            p.split("\n  help:").next().unwrap().to_string()
+        })
+        .collect()
+}
+
+/// A rig whose one channel samples a 2 kHz band at 3 kHz (a `nyquist` error at 8:11),
+/// with `extra` put in at line 3.
+fn nyquist_rig(extra: &str) -> String {
+    format!(
+        "format: 1\nrig: suppress-probe\n{extra}\nchannels:\n  - name: slow\n    clock: osc\n    band: 2 kHz\nclocks:\n  - name: osc\n    frequency: 3 kHz\n"
+    )
+}
+
+const NYQUIST: &str = "error nyquist";
+
+fn has_live_nyquist(findings: &[String]) -> bool {
+    findings
+        .iter()
+        .any(|f| f.starts_with(NYQUIST) && !f.contains("[suppressed"))
+}
+
+// ---- suppressions are YAML comments, never text inside a scalar (one test per style)
+
+#[test]
+fn suppression_text_in_a_literal_block_scalar_does_not_suppress() {
+    let f = lint(&nyquist_rig(
+        "description: |\n  # foldcheck: allow nyquist -- hidden in a literal block",
+    ));
+    assert!(has_live_nyquist(&f), "{f:#?}");
+    assert!(!f.iter().any(|f| f.contains("suppression")), "{f:#?}");
+}
+
+#[test]
+fn suppression_text_in_a_folded_block_scalar_does_not_suppress() {
+    let f = lint(&nyquist_rig(
+        "description: >\n  # foldcheck: allow nyquist -- hidden in a folded block",
+    ));
+    assert!(has_live_nyquist(&f), "{f:#?}");
+    assert!(!f.iter().any(|f| f.contains("suppression")), "{f:#?}");
+}
+
+#[test]
+fn suppression_text_in_a_multi_line_double_quoted_scalar_does_not_suppress() {
+    let f = lint(&nyquist_rig(
+        "description: \"first line\n  # foldcheck: allow nyquist -- hidden in double quotes\"",
+    ));
+    assert!(has_live_nyquist(&f), "{f:#?}");
+    assert!(!f.iter().any(|f| f.contains("suppression")), "{f:#?}");
+}
+
+#[test]
+fn suppression_text_in_a_multi_line_single_quoted_scalar_does_not_suppress() {
+    let f = lint(&nyquist_rig(
+        "description: 'first line\n  # foldcheck: allow nyquist -- hidden in single quotes'",
+    ));
+    assert!(has_live_nyquist(&f), "{f:#?}");
+    assert!(!f.iter().any(|f| f.contains("suppression")), "{f:#?}");
+}
+
+#[test]
+fn suppression_text_glued_into_a_plain_scalar_does_not_suppress() {
+    // `#` not preceded by a space is part of a plain scalar.
+    let f = lint(&nyquist_rig(
+        "description: a#foldcheck:allow nyquist -- inside a plain scalar",
+    ));
+    assert!(has_live_nyquist(&f), "{f:#?}");
+    assert!(!f.iter().any(|f| f.contains("suppression")), "{f:#?}");
+}
+
+#[test]
+fn trailing_suppression_after_an_apostrophe_in_a_plain_scalar_is_read() {
+    // Regression: a `'` earlier on the line (`operator's spare`) made the raw-line
+    // scanner think a quoted string was open, and the real comment was ignored.
+    let text = "format: 1\nrig: suppress-probe\nchannels:\n  - x-note: operator's spare # foldcheck: allow nyquist -- agreed with the lab\n    name: slow\n    clock: osc\n    band: 2 kHz\nclocks:\n  - name: osc\n    frequency: 3 kHz\n";
+    let f = lint(text);
+    assert_eq!(
+        f,
+        [
+            "error nyquist 6:12-6:15 `slow` samples at 3 kHz, which is not above twice its 2 kHz band [suppressed: agreed with the lab]"
+        ],
+    );
+}
+
+// ---- input rules are always errors
+
+#[test]
+fn suppression_comment_cannot_silence_an_input_rule() {
+    let text = "format: 1\nrig: input-probe\nchannels:\n  # foldcheck: allow schema -- the lab wants this key\n  - name: a\n    clock: osc\n    band: 1 kHz\n    colour: red\nclocks:\n  - name: osc\n    frequency: 3 kHz\n";
+    let f = lint(text);
+    assert_eq!(
+        f,
+        [
+            "warning suppression 4:3-4:54 `schema` is an input rule, which a comment cannot suppress",
+            "error schema 8:5-8:11 unknown key `colour` in `channels[0]`",
+        ],
+        "{f:#?}"
+    );
+}
+
+#[test]
+fn settings_file_naming_an_input_rule_is_refused_with_its_location() {
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(
+        dir.path().join("foldcheck.toml"),
+        "[rules]\nschema = \"off\"\n",
+    )
+    .unwrap();
+    std::fs::write(
+        dir.path().join("a.rig.yaml"),
+        "format: 1\nrig: a\nchannels:\n  - name: a\n    clock: osc\n    band: 1 kHz\n    colour: red\nclocks:\n  - name: osc\n    frequency: 30 kHz\n",
+    )
+    .unwrap();
+    let out = common::run_in(dir.path(), &["check", "--color", "never", "."]);
+    assert_eq!(out.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        err.contains("`schema` is an input rule: it is always an error and cannot be configured"),
+        "{err}"
+    );
+    assert!(err.contains("foldcheck.toml:2:10"), "{err}");
+    std::fs::write(
+        dir.path().join("foldcheck.toml"),
+        "[rules]\nyaml-syntax = \"warning\"\n",
+    )
+    .unwrap();
+    let out = common::run_in(dir.path(), &["check", "."]);
+    assert_eq!(out.status.code(), Some(2));
+}
+
+#[test]
+fn x_keys_are_free_at_every_level() {
+    let text = "format: 1\nrig: x-probe\nx-owner: test lab\nclocks:\n  - name: osc\n    frequency: 48 kHz\n    x-calibrated: 2026-01-10\nmodules:\n  - name: card\n    x-serial: 42\n    filters:\n      - response: butterworth\n        order: 4\n        cutoff: 5 kHz\n        x-part: LT-77\nchannels:\n  - name: a\n    x-cable: C-12\n    clock: osc\n    module: card\n    band: 500 Hz\n    decimate:\n      - factor: 2\n        x-why: storage\n";
+    let f = lint(text);
+    assert!(
+        !f.iter().any(|f| f.contains(" schema ")),
+        "x- keys raised schema findings: {f:#?}"
+    );
+    // The channel is analysed exactly as without the keys: same findings, same places
+    // once the removed lines are accounted for (each x- key here is on its own line).
+    let without: String = text
+        .lines()
+        .filter(|l| !l.trim_start().starts_with("x-"))
+        .map(|l| format!("{l}\n"))
+        .collect();
+    let strip = |v: Vec<String>| -> Vec<String> {
+        v.into_iter()
+            .map(|f| {
+                let mut parts = f.splitn(4, ' ');
+                let (sev, rule, _pos, msg) = (
+                    parts.next().unwrap().to_string(),
+                    parts.next().unwrap().to_string(),
+                    parts.next(),
+                    parts.next().unwrap_or("").to_string(),
+                );
+                format!("{sev} {rule} {msg}")
+            })
+            .collect()
+    };
+    let g = lint(&without);
+    assert!(!g.is_empty());
+    assert_eq!(strip(f), strip(g));
+}
+
+#[cfg(unix)]
+#[test]
+fn settings_option_naming_a_fifo_is_refused_instead_of_hanging() {
+    let dir = tempfile::tempdir().unwrap();
+    let fifo = dir.path().join("foldcheck.toml");
+    let made = std::process::Command::new("mkfifo")
+        .arg(&fifo)
+        .status()
+        .unwrap();
+    assert!(made.success());
+    std::fs::write(dir.path().join("a.rig.yaml"), "format: 1\nrig: a\n").unwrap();
+    let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_foldcheck"))
+        .args(["check", "--settings", "foldcheck.toml", "a.rig.yaml"])
+        .current_dir(dir.path())
+        .stdout(std::process::Stdio::piped())
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .unwrap();
+    let started = std::time::Instant::now();
+    let status = loop {
+        if let Some(s) = child.try_wait().unwrap() {
+            break s;
+        }
+        if started.elapsed() > std::time::Duration::from_secs(20) {
+            child.kill().unwrap();
+            panic!("foldcheck hung on a settings FIFO");
+        }
+        std::thread::sleep(std::time::Duration::from_millis(20));
+    };
+    let out = child.wait_with_output().unwrap();
+    assert_eq!(status.code(), Some(2));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        err.contains("cannot read it: is a named pipe (FIFO), not a regular file"),
+        "{err}"
+    );
+}
