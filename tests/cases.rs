@@ -1,5 +1,7 @@
 //! Case folders: `tests/cases/<rule>/<case>.rig.yaml` beside `<case>.expected`, one
-//! finding per line as `severity rule line:col-line:col message`. Run with
+//! finding per line as `severity rule line:col-line:col message` (from the JSON
+//! report), and `<case>.human`, the whole human report as a person reads it (every
+//! excerpt, label and help line; the elapsed time in the summary is masked). Run with
 //! `FOLDCHECK_UPDATE=1 cargo test --test cases` to rewrite the expected files; review
 //! the diff before committing.
 
@@ -24,6 +26,19 @@ fn case_files(root: &Path) -> Vec<PathBuf> {
     }
     out.sort();
     out
+}
+
+/// The human report of one case, without colour, the elapsed time masked.
+fn human_report(root: &Path, rel: &str) -> String {
+    let out = common::run_in(root, &["check", "--color", "never", rel]);
+    let text = String::from_utf8(out.stdout).expect("the human report is UTF-8");
+    let time = regex::Regex::new(r"\(\d+ ms\)\n$").unwrap();
+    let mut text = time.replace(&text, "(… ms)\n").into_owned();
+    text.push_str(&format!(
+        "exit {}\n",
+        out.status.code().expect("exited normally")
+    ));
+    text
 }
 
 #[test]
@@ -51,16 +66,20 @@ fn every_case_matches_its_expected_findings() {
             .map(|f| common::plain(f) + "\n")
             .collect();
         actual.push_str(&format!("exit {code}\n"));
-        let expected_path = PathBuf::from(case.to_string_lossy().replace(".rig.yaml", ".expected"));
-        if update {
-            fs::write(&expected_path, &actual).unwrap();
-            continue;
-        }
-        let expected = fs::read_to_string(&expected_path).unwrap_or_default();
-        if expected != actual {
-            failures.push(format!(
-                "{rel}:\n--- expected\n{expected}--- actual\n{actual}"
-            ));
+        let human = human_report(&root, &rel);
+        for (ext, actual) in [(".expected", actual), (".human", human)] {
+            let expected_path = PathBuf::from(case.to_string_lossy().replace(".rig.yaml", ext));
+            if update {
+                fs::write(&expected_path, &actual).unwrap();
+                continue;
+            }
+            let expected = fs::read_to_string(&expected_path).unwrap_or_default();
+            if expected != actual {
+                failures.push(format!(
+                    "{}:\n--- expected\n{expected}--- actual\n{actual}",
+                    expected_path.display()
+                ));
+            }
         }
     }
     assert!(

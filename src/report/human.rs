@@ -2,7 +2,7 @@
 
 use super::{Counts, plural};
 use crate::finding::{Finding, Label, Severity};
-use crate::source::{SourceFile, Sources, Span};
+use crate::source::{SourceFile, Sources};
 use miette::{
     Diagnostic, GraphicalReportHandler, GraphicalTheme, LabeledSpan, MietteError,
     MietteSpanContents, SourceCode, SourceSpan, SpanContents,
@@ -19,63 +19,171 @@ pub enum Color {
     Never,
 }
 
-/// A file's text as miette reads it: borrowed, not copied for every finding, and the
-/// lines around a span found through the file's line index instead of a scan from the
-/// start of the file (which made a report on a large file quadratic in its findings).
-#[derive(Clone, Copy)]
-struct FileSource<'a> {
+/// One excerpt: whole lines `[start, end)` of one file (bytes), holding one or more
+/// labels and one line of context around each, placed at `vstart` in the report's own
+/// offset space.
+struct Segment<'a> {
     file: &'a SourceFile,
-    language: Option<&'static str>,
+    start: usize,
+    end: usize,
+    first_line: usize,
+    vstart: usize,
 }
 
-impl FileSource<'_> {
-    fn name(&self) -> &str {
-        &self.file.display
+/// The text of a finding's excerpts as miette reads it. miette prints excerpts in the
+/// order of their offsets; to print the primary excerpt first, then the others of its
+/// file in file order, then the other files, every excerpt is given its own range of
+/// offsets in that order (labels are moved with it). A span that crosses two excerpts
+/// cannot be read, so miette never merges them. Text is borrowed, not copied.
+struct Excerpts<'a> {
+    segments: Vec<Segment<'a>>,
+}
+
+/// A gap between two excerpts' offset ranges, so that they never touch.
+const GAP: usize = 16;
+
+impl<'a> Excerpts<'a> {
+    fn segment_at(&self, offset: usize, end: usize) -> Option<&Segment<'a>> {
+        self.segments.iter().find(|s| {
+            let vend = s.vstart + (s.end - s.start);
+            s.vstart <= offset && end <= vend
+        })
     }
 }
 
-impl SourceCode for FileSource<'_> {
+impl SourceCode for Excerpts<'_> {
     fn read_span<'b>(
         &'b self,
         span: &SourceSpan,
         context_lines_before: usize,
         context_lines_after: usize,
     ) -> Result<Box<dyn SpanContents<'b> + 'b>, MietteError> {
-        let text = self.file.text.as_str();
-        let lines = &self.file.lines;
-        let start = span.offset().min(text.len());
-        let end = (span.offset() + span.len()).min(text.len()).max(start);
-        // A window of whole lines, one more on each side than the context asked for;
-        // miette then reads the context inside it exactly as in the whole text.
-        let first = lines.line_col(text, start).0;
-        let last = lines.line_col(text, end).0;
-        let w_first = first.saturating_sub(context_lines_before + 1).max(1);
-        let w0 = lines.offset(text, w_first, 1);
-        let w1 = lines.offset(text, last + context_lines_after + 2, 1);
-        let window = &text[w0..w1];
+        let seg = self
+            .segment_at(span.offset(), span.offset() + span.len())
+            .ok_or(MietteError::OutOfBounds)?;
+        let text = seg.file.text.as_str();
+        let window = &text[seg.start..seg.end];
+        let local = span.offset() - seg.vstart;
         let inner = window.read_span(
-            &SourceSpan::new((start - w0).into(), end - start),
+            &SourceSpan::new(local.into(), span.len()),
             context_lines_before,
             context_lines_after,
         )?;
-        let shift = w_first - 1;
-        // Columns count characters (as JSON, SARIF and SPEC §7 do), not bytes.
-        let at = (inner.span().offset() + w0).min(text.len());
+        // Columns count characters (as JSON and SARIF do: docs/output.md), not bytes.
+        let at = seg.start + inner.span().offset();
         let line_start = text[..at].rfind('\n').map_or(0, |i| i + 1);
         let column = text.get(line_start..at).map_or(0, |s| s.chars().count());
-        let mut contents = MietteSpanContents::new_named(
-            self.file.display.clone(),
+        Ok(Box::new(MietteSpanContents::new_named(
+            seg.file.display.clone(),
             inner.data(),
-            SourceSpan::new((inner.span().offset() + w0).into(), inner.span().len()),
-            inner.line() + shift,
+            SourceSpan::new(
+                (inner.span().offset() + seg.vstart).into(),
+                inner.span().len(),
+            ),
+            inner.line() + seg.first_line - 1,
             column,
-            inner.line_count() + shift,
-        );
-        if let Some(language) = self.language {
-            contents = contents.with_language(language);
-        }
-        Ok(Box::new(contents))
+            inner.line_count(),
+        )))
     }
+}
+
+/// The excerpts of a finding and its labels in their offset space: the primary label's
+/// excerpt first, then the others of its file in file order, then other files (by name),
+/// each in file order. Labels whose lines (with one line of context) touch share an
+/// excerpt.
+fn excerpts<'a>(sources: &'a Sources, f: &Finding) -> (Excerpts<'a>, Vec<LabeledSpan>) {
+    struct Placed<'l> {
+        label: &'l Label,
+        primary: bool,
+        first: usize,
+        last: usize,
+    }
+    let mut by_file: Vec<(&SourceFile, Vec<Placed>)> = Vec::new();
+    let all = std::iter::once((&f.primary, true)).chain(f.secondary.iter().map(|l| (l, false)));
+    for (label, primary) in all {
+        let file = sources.get(label.span.file);
+        let text = file.text.as_str();
+        let start = (label.span.start as usize).min(text.len());
+        let end = (label.span.end as usize).min(text.len()).max(start);
+        let first = file.lines.line_col(text, start).0;
+        // A span that ends just after a line break ends on the line before it.
+        let last_at = if end > start && text.as_bytes()[end - 1] == b'\n' {
+            end - 1
+        } else {
+            end
+        };
+        let last = file.lines.line_col(text, last_at).0.max(first);
+        let placed = Placed {
+            label,
+            primary,
+            first,
+            last,
+        };
+        match by_file.iter_mut().find(|(f, _)| f.id == file.id) {
+            Some((_, v)) => v.push(placed),
+            None => by_file.push((file, vec![placed])),
+        }
+    }
+    // The primary's file first, then the others by name.
+    by_file[1..].sort_by(|a, b| a.0.display.cmp(&b.0.display));
+    let mut clusters: Vec<(&SourceFile, usize, usize, Vec<&Placed>, bool)> = Vec::new();
+    for (file, placed) in &by_file {
+        let mut placed: Vec<&Placed> = placed.iter().collect();
+        placed.sort_by_key(|p| (p.first, p.label.span.start));
+        let line_count = file.lines.lines();
+        let mut mine: Vec<(&SourceFile, usize, usize, Vec<&Placed>, bool)> = Vec::new();
+        for p in placed {
+            let w0 = p.first.saturating_sub(1).max(1);
+            let w1 = (p.last + 1).min(line_count);
+            match mine.last_mut() {
+                Some(c) if w0 <= c.2 + 1 => {
+                    c.2 = c.2.max(w1);
+                    c.4 |= p.primary;
+                    c.3.push(p);
+                }
+                _ => mine.push((file, w0, w1, vec![p], p.primary)),
+            }
+        }
+        // The cluster with the primary label comes first; the rest keep file order.
+        if let Some(i) = mine.iter().position(|c| c.4) {
+            let c = mine.remove(i);
+            mine.insert(0, c);
+        }
+        clusters.extend(mine);
+    }
+    let mut segments = Vec::new();
+    let mut labels = Vec::new();
+    let mut vstart = 0;
+    for (file, w0, w1, placed, _) in clusters {
+        let text = file.text.as_str();
+        let start = file.lines.offset(text, w0, 1);
+        let end = file.lines.offset(text, w1 + 1, 1).max(start);
+        let end = if w1 >= file.lines.lines() {
+            text.len()
+        } else {
+            end
+        };
+        for p in placed {
+            let s = (p.label.span.start as usize).clamp(start, end);
+            let e = (p.label.span.end as usize).clamp(s, end);
+            let span = SourceSpan::new((s - start + vstart).into(), e - s);
+            let text = Some(p.label.text.clone());
+            labels.push(if p.primary {
+                LabeledSpan::new_primary_with_span(text, span)
+            } else {
+                LabeledSpan::new_with_span(text, span)
+            });
+        }
+        segments.push(Segment {
+            file,
+            start,
+            end,
+            first_line: w0,
+            vstart,
+        });
+        vstart += end - start + GAP;
+    }
+    (Excerpts { segments }, labels)
 }
 
 struct Report<'a> {
@@ -83,9 +191,8 @@ struct Report<'a> {
     rule: &'static str,
     severity: Severity,
     help: Option<String>,
-    source: FileSource<'a>,
+    source: Excerpts<'a>,
     labels: Vec<LabeledSpan>,
-    related: Vec<Report<'a>>,
 }
 
 impl fmt::Debug for Report<'_> {
@@ -104,11 +211,7 @@ impl std::error::Error for Report<'_> {}
 
 impl Diagnostic for Report<'_> {
     fn code<'a>(&'a self) -> Option<Box<dyn fmt::Display + 'a>> {
-        if self.rule.is_empty() {
-            None
-        } else {
-            Some(Box::new(self.rule))
-        }
+        Some(Box::new(self.rule))
     }
     fn severity(&self) -> Option<miette::Severity> {
         Some(match self.severity {
@@ -128,72 +231,103 @@ impl Diagnostic for Report<'_> {
     fn labels(&self) -> Option<Box<dyn Iterator<Item = LabeledSpan> + '_>> {
         Some(Box::new(self.labels.iter().cloned()))
     }
-    fn related<'a>(&'a self) -> Option<Box<dyn Iterator<Item = &'a dyn Diagnostic> + 'a>> {
-        if self.related.is_empty() {
-            None
-        } else {
-            Some(Box::new(self.related.iter().map(|r| r as &dyn Diagnostic)))
-        }
-    }
-}
-
-fn source_span(span: Span) -> SourceSpan {
-    SourceSpan::new((span.start as usize).into(), span.len())
 }
 
 fn build<'a>(sources: &'a Sources, f: &Finding) -> Report<'a> {
-    let file = sources.get(f.primary.span.file);
-    let mut labels = vec![LabeledSpan::new_primary_with_span(
-        Some(f.primary.text.clone()),
-        source_span(f.primary.span),
-    )];
-    let mut elsewhere: Vec<&Label> = Vec::new();
-    for l in &f.secondary {
-        if l.span.file == f.primary.span.file {
-            labels.push(LabeledSpan::new_with_span(
-                Some(l.text.clone()),
-                source_span(l.span),
-            ));
-        } else {
-            elsewhere.push(l);
-        }
-    }
-    // Labels in other files (an included catalog) become related notes, one per file.
-    let mut related: Vec<Report> = Vec::new();
-    for l in elsewhere {
-        let other = sources.get(l.span.file);
-        let label = LabeledSpan::new_with_span(Some(l.text.clone()), source_span(l.span));
-        match related
-            .iter_mut()
-            .find(|r| r.source.name() == other.display)
-        {
-            Some(r) => r.labels.push(label),
-            None => related.push(Report {
-                message: format!("in {}", other.display),
-                rule: "",
-                severity: Severity::Note,
-                help: None,
-                source: FileSource {
-                    file: other,
-                    language: None,
-                },
-                labels: vec![label],
-                related: Vec::new(),
-            }),
-        }
-    }
+    let (source, labels) = excerpts(sources, f);
     Report {
         message: f.message.clone(),
         rule: f.rule,
         severity: f.severity,
         help: f.help.clone(),
-        source: FileSource {
-            file,
-            language: Some("yaml"),
-        },
+        source,
         labels,
-        related,
     }
+}
+
+/// Text without ANSI escape sequences (for recognising miette's frame lines).
+fn plain(line: &str) -> String {
+    let mut out = String::with_capacity(line.len());
+    let mut chars = line.chars();
+    while let Some(c) = chars.next() {
+        if c == '\u{1b}' {
+            // CSI: ESC [ ... final byte in @..~
+            if chars.next() == Some('[') {
+                for c in chars.by_ref() {
+                    if ('@'..='~').contains(&c) {
+                        break;
+                    }
+                }
+            }
+        } else {
+            out.push(c);
+        }
+    }
+    out
+}
+
+/// Where an excerpt's frame starts in a line miette drew (`╭─[...]` or `╰────`).
+fn frame_column(line: &str, corner: char) -> Option<usize> {
+    let plain = plain(line);
+    let trimmed = plain.trim_start();
+    let opens = corner == '╭' && trimmed.starts_with("╭─[");
+    let closes = corner == '╰'
+        && trimmed.starts_with('╰')
+        && trimmed.trim_end().chars().skip(1).all(|c| c == '─');
+    (opens || closes).then(|| plain.len() - trimmed.len())
+}
+
+/// Join consecutive excerpts of one file and align them: miette closes an excerpt
+/// (`╰────`) and opens the next (`╭─[file:line:col]`); within one file an elision mark
+/// `⋮` says more simply that lines were left out. Each excerpt's line-number gutter is
+/// as wide as its own largest line number; all are widened to the widest.
+fn join_excerpts(rendered: &str, files: &[&str]) -> String {
+    let lines: Vec<&str> = rendered.split_inclusive('\n').collect();
+    // The line ranges of the excerpts and the column of their frame.
+    let mut blocks: Vec<(usize, usize, usize)> = Vec::new();
+    let mut open: Option<(usize, usize)> = None;
+    for (i, line) in lines.iter().enumerate() {
+        if let Some(col) = frame_column(line, '╭') {
+            open = Some((i, col));
+        } else if frame_column(line, '╰').is_some()
+            && let Some((start, col)) = open.take()
+        {
+            blocks.push((start, i, col));
+        }
+    }
+    if blocks.len() != files.len() {
+        // Not the layout this function knows: leave miette's rendering as it is.
+        return rendered.to_string();
+    }
+    let widest = blocks.iter().map(|b| b.2).max().unwrap_or(0);
+    let mut out = String::with_capacity(rendered.len());
+    let mut next_block = 0;
+    let mut i = 0;
+    while i < lines.len() {
+        let Some(&(start, end, col)) = blocks.get(next_block).filter(|b| b.0 == i) else {
+            out.push_str(lines[i]);
+            i += 1;
+            continue;
+        };
+        let pad = " ".repeat(widest - col);
+        let joined_to_next =
+            next_block + 1 < blocks.len() && files[next_block + 1] == files[next_block];
+        let joined_to_previous = next_block > 0 && files[next_block - 1] == files[next_block];
+        for (k, line) in lines.iter().enumerate().take(end + 1).skip(start) {
+            if (k == start && joined_to_previous) || (k == end && joined_to_next) {
+                continue;
+            }
+            out.push_str(&pad);
+            out.push_str(line);
+        }
+        if joined_to_next {
+            out.push_str(&" ".repeat(widest));
+            out.push_str("⋮\n");
+        }
+        next_block += 1;
+        i = end + 1;
+    }
+    out
 }
 
 /// Render one finding.
@@ -204,14 +338,19 @@ pub fn render_finding(sources: &Sources, f: &Finding, color: Color) -> String {
     };
     let handler = GraphicalReportHandler::new_themed(theme)
         .with_width(100)
-        .with_context_lines(1)
-        .with_show_related_as_nested(true);
+        .with_context_lines(1);
     let mut out = String::new();
     let report = build(sources, f);
     if handler.render_report(&mut out, &report).is_err() {
-        out = format!("{}: {}\n", f.rule, f.message);
+        return format!("{}: {}\n", f.rule, f.message);
     }
-    out
+    let files: Vec<&str> = report
+        .source
+        .segments
+        .iter()
+        .map(|s| s.file.display.as_str())
+        .collect();
+    join_excerpts(&out, &files)
 }
 
 /// The summary line: counts by severity, files, channels, elapsed time.
