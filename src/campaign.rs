@@ -32,7 +32,16 @@ pub struct Options {
     pub keep_rigs: bool,
     /// Show progress on stderr (set it only when stderr is a terminal).
     pub progress: bool,
+    /// Texts that stand in for files on disk (an editor's unsaved buffers), by
+    /// absolute path: see [`Overlay`].
+    pub overlay: Option<Arc<Overlay>>,
 }
+
+/// Texts held in memory that stand in for the files at these paths: an editor's open
+/// documents override what is on disk, and a path held here need not exist on disk.
+/// Keys are absolute, normalised paths (see [`absolute`]); a link's target may be
+/// given too.
+pub type Overlay = HashMap<PathBuf, String>;
 
 impl Default for Options {
     fn default() -> Self {
@@ -41,6 +50,7 @@ impl Default for Options {
             max_file_bytes: DEFAULT_MAX_FILE_BYTES,
             keep_rigs: false,
             progress: false,
+            overlay: None,
         }
     }
 }
@@ -102,6 +112,7 @@ struct Ctx {
     sources: Mutex<Sources>,
     catalogs: Mutex<HashMap<PathBuf, Arc<OnceLock<Arc<Loaded>>>>>,
     max_file_bytes: u64,
+    overlay: Option<Arc<Overlay>>,
 }
 
 impl Ctx {
@@ -110,8 +121,23 @@ impl Ctx {
             sources: Mutex::new(Sources::new()),
             catalogs: Mutex::new(HashMap::new()),
             max_file_bytes,
+            overlay: None,
         }
     }
+}
+
+/// The overlay's text for `path`, if it holds one (looked up by absolute path, then by
+/// the file's real path).
+fn overlay_text<'a>(overlay: Option<&'a Overlay>, path: &Path) -> Option<&'a str> {
+    let overlay = overlay?;
+    overlay
+        .get(&absolute(path))
+        .or_else(|| {
+            std::fs::canonicalize(path)
+                .ok()
+                .and_then(|p| overlay.get(&p))
+        })
+        .map(String::as_str)
 }
 
 /// A rig file to lint, with its campaign root and settings.
@@ -128,7 +154,8 @@ struct Job {
 /// Lint the given paths (files and directories).
 pub fn run(paths: &[PathBuf], opts: &Options) -> Result<Outcome, Fatal> {
     let jobs = discover(paths, opts)?;
-    let ctx = Ctx::new(opts.max_file_bytes);
+    let mut ctx = Ctx::new(opts.max_file_bytes);
+    ctx.overlay = opts.overlay.clone();
     let done = std::sync::atomic::AtomicUsize::new(0);
     let total = jobs.len();
     let show = opts.progress && total >= PROGRESS_FROM;
@@ -288,12 +315,14 @@ fn discover(paths: &[PathBuf], opts: &Options) -> Result<Vec<Job>, Fatal> {
         };
     let mut jobs = Vec::new();
     let mut seen = std::collections::HashSet::new();
+    let overlay = opts.overlay.as_deref();
     for p in paths {
+        let in_overlay = overlay_text(overlay, p).is_some();
         let meta = std::fs::metadata(p).map_err(|e| match e.kind() {
             std::io::ErrorKind::NotFound => Fatal::NoSuchPath(p.clone()),
             _ => Fatal::Unreadable(p.clone(), e.to_string()),
-        })?;
-        if meta.is_dir() {
+        });
+        if !in_overlay && meta?.is_dir() {
             let walker = ignore::WalkBuilder::new(p)
                 .require_git(false)
                 .hidden(true)
@@ -337,7 +366,7 @@ fn discover(paths: &[PathBuf], opts: &Options) -> Result<Vec<Job>, Fatal> {
             if excluded(&s, &root, p) {
                 continue;
             }
-            if is_catalog_file(p) {
+            if is_catalog_file(p, overlay) {
                 // Pre-commit passes changed files: a changed catalog means linting the
                 // rigs that include it. Without a settings file, search the working
                 // directory (where pre-commit runs) when the catalog lies under it.
@@ -397,10 +426,13 @@ fn discover(paths: &[PathBuf], opts: &Options) -> Result<Vec<Job>, Fatal> {
 
 /// Whether a file that is not named like a rig file is a catalog: a top-level
 /// `catalog:` key (block style, as catalogs are written).
-fn is_catalog_file(p: &Path) -> bool {
+fn is_catalog_file(p: &Path, overlay: Option<&Overlay>) -> bool {
     let name = p.file_name().and_then(|n| n.to_str()).unwrap_or("");
     if name.ends_with(".rig.yaml") || name.ends_with(".rig.yml") {
         return false;
+    }
+    if let Some(text) = overlay_text(overlay, p) {
+        return text.lines().any(|l| l.starts_with("catalog:"));
     }
     // Only a regular file is opened here: reading a named pipe would block.
     std::fs::metadata(p).is_ok_and(|m| m.is_file())
@@ -544,6 +576,16 @@ fn too_large(id: FileId, size: Option<u64>, limit: u64) -> Finding {
 /// is read, whatever size the file system reports.
 fn read_file(ctx: &Ctx, path: &Path, display: String) -> Result<(FileId, Option<Finding>), String> {
     use std::io::Read;
+    if let Some(text) = overlay_text(ctx.overlay.as_deref(), path) {
+        let limit = ctx.max_file_bytes;
+        let mut sources = ctx.sources.lock().expect("no thread panicked");
+        if text.len() as u64 > limit {
+            let id = sources.add(path, display, String::new());
+            return Ok((id, Some(too_large(id, Some(text.len() as u64), limit))));
+        }
+        let id = sources.add(path, display, text.to_string());
+        return Ok((id, None));
+    }
     let meta = std::fs::metadata(path).map_err(|e| e.to_string())?;
     if !meta.is_file() {
         return Err(crate::source::not_regular_file(&meta));

@@ -32,6 +32,7 @@ pub fn run(command: Command) -> Outcome {
                 max_file_bytes: max_file_size.unwrap_or(campaign::DEFAULT_MAX_FILE_BYTES),
                 keep_rigs: false,
                 progress: std::io::stderr().is_terminal(),
+                ..Options::default()
             };
             let out = campaign::run(&paths, &opts).map_err(|e| fatal(&e))?;
             if out.files == 0 {
