@@ -127,6 +127,9 @@ pub enum Command {
         /// A rule name.
         rule: Option<String>,
     },
+    /// Serve the Language Server Protocol on stdin/stdout, for editors (rig files and
+    /// catalogs: diagnostics as you type, hover, go to definition, completion, quick fixes).
+    Lsp,
     /// Print the JSON Schema of the rig format.
     Schema {
         /// Print the schema of foldcheck.toml instead.

@@ -59,6 +59,9 @@ pub fn run(command: Command) -> Outcome {
             let code = u8::from(Counts::of(&out.findings).reaches(severity(fail_on)));
             Ok((text, code))
         }
+        Command::Lsp => foldcheck::lsp::run_stdio()
+            .map(|()| (String::new(), 0))
+            .map_err(|e| format!("foldcheck lsp: {e}")),
         Command::Rules { rule } => match rule {
             None => {
                 let mut s = String::new();

@@ -10,6 +10,7 @@ pub mod campaign;
 pub mod diff;
 pub mod finding;
 pub mod inspect;
+pub mod lsp;
 pub mod model;
 pub mod report;
 pub mod resolve;
