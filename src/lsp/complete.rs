@@ -80,9 +80,7 @@ pub fn context<'a>(prefix: &str, above: impl Iterator<Item = &'a str>) -> Option
         return None;
     }
     // The partial word being typed.
-    let word_start = prefix
-        .rfind([' ', '[', ',', '{', ':', '-'])
-        .map_or(0, |p| p + 1);
+    let word_start = prefix.rfind([' ', '[', ',', '{', ':']).map_or(0, |p| p + 1);
     if let Some((key, key_col, after)) = last_key(prefix) {
         if after.contains('#') {
             return None;

@@ -1,0 +1,456 @@
+//! `foldcheck lsp` driven over stdio as an editor would: JSON-RPC messages in, the exact
+//! responses and notifications out (the protocol is the Language Server Protocol 3.17;
+//! positions count UTF-16 code units unless UTF-8 is negotiated).
+
+mod common;
+
+use common::{LspClient, file_uri};
+use serde_json::{Value, json};
+
+/// A made-up listening room: a catalog with the lab's oscillator and a microphone, and a
+/// rig with one channel. The sensor line holds multibyte characters and an emoji before
+/// the value the tests edit.
+const CATALOG: &str = "\
+format: 1
+catalog: lab-parts
+clocks:
+  - name: osc
+    frequency: 24.576 MHz
+  - name: frame-48k
+    source: osc
+    divide: 512
+";
+
+const RIG: &str = "\
+format: 1
+rig: listening-room
+include:
+  - lab/parts.yaml
+clocks:
+  - name: frame-96k
+    source: osc
+    divide: 256
+sensors:
+  - { name: mic-20k, kind: \"Messmikrofon Größe ½ 😀\", bandwidth: 20 kHz }
+channels:
+  - name: mic-left
+    sensor: mic-20k
+    clock: frame-96k
+    band: 20 kHz
+    filters: [{ response: butterworth, order: 8, cutoff: 24 kHz }]
+";
+
+fn setup() -> (tempfile::TempDir, String, String) {
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::create_dir(dir.path().join("lab")).unwrap();
+    std::fs::write(dir.path().join("lab/parts.yaml"), CATALOG).unwrap();
+    std::fs::write(dir.path().join("room.rig.yaml"), RIG).unwrap();
+    let rig = file_uri(&dir.path().join("room.rig.yaml"));
+    let cat = file_uri(&dir.path().join("lab/parts.yaml"));
+    (dir, rig, cat)
+}
+
+fn initialize(c: &mut LspClient, capabilities: Value) -> Value {
+    let r = c.request(
+        "initialize",
+        json!({ "processId": null, "rootUri": null, "capabilities": capabilities }),
+    );
+    c.notify("initialized", json!({}));
+    r
+}
+
+fn open(c: &mut LspClient, uri: &str, text: &str) {
+    c.notify(
+        "textDocument/didOpen",
+        json!({ "textDocument": { "uri": uri, "languageId": "yaml", "version": 1, "text": text } }),
+    );
+}
+
+fn pos(line: u32, character: u32) -> Value {
+    json!({ "line": line, "character": character })
+}
+
+fn range(l0: u32, c0: u32, l1: u32, c1: u32) -> Value {
+    json!({ "start": pos(l0, c0), "end": pos(l1, c1) })
+}
+
+/// Byte offset of a UTF-16 position (for applying the server's edits here).
+fn utf16_offset(text: &str, p: &Value) -> usize {
+    let line = p["line"].as_u64().unwrap() as usize;
+    let ch = p["character"].as_u64().unwrap() as usize;
+    let start: usize = text.split_inclusive('\n').take(line).map(str::len).sum();
+    let mut units = 0;
+    for (i, c) in text[start..].char_indices() {
+        if units >= ch || c == '\n' {
+            return start + i;
+        }
+        units += c.len_utf16();
+    }
+    text.len()
+}
+
+fn apply_edits(text: &str, edits: &[Value]) -> String {
+    let mut edits: Vec<(usize, usize, &str)> = edits
+        .iter()
+        .map(|e| {
+            (
+                utf16_offset(text, &e["range"]["start"]),
+                utf16_offset(text, &e["range"]["end"]),
+                e["newText"].as_str().unwrap(),
+            )
+        })
+        .collect();
+    edits.sort_by_key(|e| std::cmp::Reverse(e.0));
+    let mut out = text.to_string();
+    for (a, b, t) in edits {
+        out.replace_range(a..b, t);
+    }
+    out
+}
+
+#[test]
+fn a_session_from_initialize_to_exit() {
+    let (dir, rig, cat) = setup();
+    let mut c = LspClient::start(dir.path());
+
+    // No `general.positionEncodings` offered: UTF-16, the protocol's default.
+    let init = initialize(&mut c, json!({}));
+    assert_eq!(
+        init["result"],
+        json!({
+            "capabilities": {
+                "positionEncoding": "utf-16",
+                "textDocumentSync": { "openClose": true, "change": 2, "save": { "includeText": false } },
+                "hoverProvider": true,
+                "definitionProvider": true,
+                "referencesProvider": true,
+                "completionProvider": { "triggerCharacters": [" ", ":", "[", ","] },
+                "codeActionProvider": { "codeActionKinds": ["quickfix"] }
+            },
+            "serverInfo": { "name": "foldcheck", "version": env!("CARGO_PKG_VERSION") }
+        })
+    );
+
+    // Open: the rig is clean (96 kHz for a 20 kHz band; an 8th-order Butterworth at
+    // 24 kHz gives 10·log10(1 + (76/24)^16) = 80.10 dB at 76 kHz, the published
+    // Butterworth magnitude, above the 40 dB default).
+    open(&mut c, &rig, RIG);
+    assert_eq!(c.diagnostics(&rig), json!([]));
+
+    // A change that introduces a finding, on the line with `ß`, `½` and an emoji before
+    // the value: `kHz` → `KHz` (an incremental edit in UTF-16 units: the emoji is two).
+    let line = RIG.lines().nth(9).unwrap();
+    let k = line.find("kHz").unwrap();
+    let k16 = line[..k].encode_utf16().count() as u32;
+    // `ö`, `ß` and `½` are two bytes and one UTF-16 unit each; the emoji four bytes and
+    // two units (a surrogate pair): 5 bytes more than units.
+    assert_eq!(
+        (k, k16),
+        (73, 68),
+        "bytes and UTF-16 units differ on this line"
+    );
+    c.notify(
+        "textDocument/didChange",
+        json!({
+            "textDocument": { "uri": rig, "version": 2 },
+            "contentChanges": [{ "range": range(9, k16, 9, k16 + 1), "text": "K" }]
+        }),
+    );
+    assert_eq!(
+        c.diagnostics(&rig),
+        json!([{
+            "range": range(9, k16 - 3, 9, k16 + 3),
+            "severity": 1,
+            "code": "quantity",
+            "source": "foldcheck",
+            "message": "unknown unit `KHz` in `20 KHz`; units are case-sensitive\nhelp: write `20 kHz`"
+        }])
+    );
+
+    // A change that removes it again.
+    c.notify(
+        "textDocument/didChange",
+        json!({
+            "textDocument": { "uri": rig, "version": 3 },
+            "contentChanges": [{ "range": range(9, k16, 9, k16 + 1), "text": "k" }]
+        }),
+    );
+    assert_eq!(c.diagnostics(&rig), json!([]));
+
+    // Hover on the channel's name: rates through the clock path, ratio, attenuation.
+    let h = c.request(
+        "textDocument/hover",
+        json!({ "textDocument": { "uri": rig }, "position": pos(11, 12) }),
+    );
+    assert_eq!(
+        h["result"]["contents"]["value"],
+        "**channel `mic-left`**\n\n\
+         clock: `osc` 24.576 MHz → ÷ 256 `frame-96k` 96 kHz\n\n\
+         band: 20 kHz (the channel's `band`)\n\n\
+         | rate change | rate | ratio | fs − B | attenuation | required |\n\
+         |---|---|---|---|---|---|\n\
+         | ADC | 96 kHz | 4.8 | 76 kHz | 80.10 dB | 40 dB ✓ |\n\n\
+         worst alias attenuation: 80.10 dB at ADC (from 76 kHz), 40 dB required\n\n\
+         final rate 96 kHz, ratio 4.8; droop at the band edge 0.23 dB (tolerance 0.50 dB)\n"
+    );
+
+    // Go to definition: `osc` in the rig is defined in the catalog.
+    let d = c.request(
+        "textDocument/definition",
+        json!({ "textDocument": { "uri": rig }, "position": pos(6, 13) }),
+    );
+    assert_eq!(
+        d["result"],
+        json!({ "uri": cat, "range": range(3, 10, 3, 13) })
+    );
+
+    // Find references of the rig's clock: its definition and the channel's `clock`.
+    let r = c.request(
+        "textDocument/references",
+        json!({ "textDocument": { "uri": rig }, "position": pos(13, 14),
+                "context": { "includeDeclaration": true } }),
+    );
+    assert_eq!(
+        r["result"],
+        json!([
+            { "uri": rig, "range": range(5, 10, 5, 19) },
+            { "uri": rig, "range": range(13, 11, 13, 20) }
+        ])
+    );
+
+    // Completion of clock names at the channel's `clock`, across the include.
+    let comp = c.request(
+        "textDocument/completion",
+        json!({ "textDocument": { "uri": rig }, "position": pos(13, 17) }),
+    );
+    let items = |labels: &[&str], kind: u32, detail: &str, r: Value| -> Value {
+        Value::Array(
+            labels
+                .iter()
+                .enumerate()
+                .map(|(i, l)| {
+                    json!({ "label": l, "kind": kind, "detail": detail,
+                            "sortText": format!("{i:04}"),
+                            "textEdit": { "range": r, "newText": l } })
+                })
+                .collect(),
+        )
+    };
+    assert_eq!(
+        comp["result"],
+        items(
+            &["frame-48k", "frame-96k", "osc"],
+            18,
+            "clock",
+            range(13, 11, 13, 17)
+        )
+    );
+    // ... and of a unit after a number (the emoji line: UTF-16 columns).
+    let comp = c.request(
+        "textDocument/completion",
+        json!({ "textDocument": { "uri": rig }, "position": pos(9, k16 + 1) }),
+    );
+    assert_eq!(
+        comp["result"],
+        items(
+            &["Hz", "kHz", "MHz", "GHz"],
+            11,
+            "frequency",
+            range(9, k16, 9, k16 + 1)
+        )
+    );
+
+    // A change that makes a physics finding: a 4 kHz band on a 96 kHz clock is 24×
+    // oversampled, above the default limit of 20.
+    let text = RIG.replace("band: 20 kHz", "band: 4 kHz");
+    c.notify(
+        "textDocument/didChange",
+        json!({
+            "textDocument": { "uri": rig, "version": 4 },
+            "contentChanges": [{ "range": range(14, 10, 14, 12), "text": "4" }]
+        }),
+    );
+    let diags = c.diagnostics(&rig);
+    assert_eq!(
+        diags,
+        json!([{
+            "range": range(13, 11, 13, 20),
+            "severity": 3,
+            "code": "oversampling",
+            "source": "foldcheck",
+            "message": "`mic-left` ends at 96 kHz, 24× its 4 kHz band (the limit is 20×)\nhelp: decimate (with a filter) by 2 to 9, or divide the clock down: a final rate of 80 kHz or less is within the limit",
+            "relatedInformation": [{
+                "location": { "uri": rig, "range": range(14, 10, 14, 15) },
+                "message": "band 4 kHz"
+            }]
+        }])
+    );
+
+    // Code actions there: suppress with a reason (oversampling is not an input rule).
+    let actions = c.request(
+        "textDocument/codeAction",
+        json!({ "textDocument": { "uri": rig }, "range": range(13, 11, 13, 11),
+                "context": { "diagnostics": diags } }),
+    );
+    let comment = "    # foldcheck: allow oversampling -- TODO: say why this is acceptable\n";
+    assert_eq!(
+        actions["result"],
+        json!([{
+            "title": "Suppress `oversampling` here, with a reason",
+            "kind": "quickfix",
+            "diagnostics": diags,
+            "edit": { "changes": { rig.clone(): [{ "range": range(13, 0, 13, 0), "newText": comment }] } }
+        }])
+    );
+    // Apply the edit as an editor would: the finding is suppressed, nothing is shown.
+    let edits = actions["result"][0]["edit"]["changes"][&rig]
+        .as_array()
+        .unwrap();
+    let edited = apply_edits(&text, edits);
+    assert!(edited.contains(&format!(
+        "    sensor: mic-20k\n{comment}    clock: frame-96k\n"
+    )));
+    c.notify(
+        "textDocument/didChange",
+        json!({ "textDocument": { "uri": rig, "version": 5 },
+                "contentChanges": [{ "text": edited }] }),
+    );
+    assert_eq!(c.diagnostics(&rig), json!([]));
+
+    // A request the server does not know gets an error response, not silence.
+    let unknown = c.request("textDocument/prepareRename", json!({}));
+    assert_eq!(
+        unknown["error"],
+        json!({ "code": -32601, "message": "foldcheck does not handle `textDocument/prepareRename`" })
+    );
+
+    assert!(c.shutdown().success(), "exit after shutdown is status 0");
+}
+
+#[test]
+fn utf8_is_used_when_the_client_offers_it() {
+    let (dir, rig, _) = setup();
+    let mut c = LspClient::start(dir.path());
+    let init = initialize(
+        &mut c,
+        json!({ "general": { "positionEncodings": ["utf-16", "utf-8"] } }),
+    );
+    assert_eq!(init["result"]["capabilities"]["positionEncoding"], "utf-8");
+    open(&mut c, &rig, &RIG.replace("20 kHz", "20 KHz"));
+    let diags = c.diagnostics(&rig);
+    // Byte columns: `20 KHz` starts at byte 70 of the emoji line (65 in UTF-16).
+    let line = RIG.lines().nth(9).unwrap();
+    assert_eq!(line.find("20 kHz"), Some(70));
+    assert_eq!(diags[0]["range"], range(9, 70, 9, 76));
+    assert!(c.shutdown().success());
+}
+
+#[test]
+fn a_changed_catalog_republishes_the_rigs_that_include_it() {
+    let (dir, rig, cat) = setup();
+    let mut c = LspClient::start(dir.path());
+    initialize(&mut c, json!({}));
+    open(&mut c, &rig, RIG);
+    assert_eq!(c.diagnostics(&rig), json!([]));
+    open(&mut c, &cat, CATALOG);
+    assert_eq!(c.diagnostics(&cat), json!([]));
+    // Opening the catalog replaces the rig's view of it: the rig is published again.
+    assert_eq!(c.diagnostics(&rig), json!([]));
+    // The oscillator at a tenth of its frequency: the rig's channel samples at 9.6 kHz,
+    // not above twice its 20 kHz band.
+    let slow = CATALOG.replace("24.576 MHz", "2.4576 MHz");
+    c.notify(
+        "textDocument/didSave",
+        json!({ "textDocument": { "uri": cat } }),
+    );
+    assert_eq!(c.diagnostics(&cat), json!([]));
+    assert_eq!(c.diagnostics(&rig), json!([]));
+    c.notify(
+        "textDocument/didChange",
+        json!({ "textDocument": { "uri": cat, "version": 2 },
+                "contentChanges": [{ "text": slow }] }),
+    );
+    assert_eq!(c.diagnostics(&cat), json!([]));
+    let d = c.diagnostics(&rig);
+    let rules: Vec<&str> = d
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|d| d["code"].as_str().unwrap())
+        .collect();
+    assert_eq!(rules, ["nyquist"], "{d}");
+    // The related information points into the catalog (the oscillator's frequency).
+    let related = d[0]["relatedInformation"].as_array().unwrap();
+    assert!(
+        related.iter().any(|r| r["location"]["uri"] == cat.as_str()),
+        "{d}"
+    );
+    // Closing the catalog: the rig reads the file on disk again, and is clean.
+    c.notify(
+        "textDocument/didClose",
+        json!({ "textDocument": { "uri": cat } }),
+    );
+    assert_eq!(c.diagnostics(&cat), json!([]));
+    assert_eq!(c.diagnostics(&rig), json!([]));
+    assert!(c.shutdown().success());
+}
+
+#[test]
+fn hostile_messages_get_answers_and_the_server_survives() {
+    let dir = tempfile::tempdir().unwrap();
+    let mut c = LspClient::start(dir.path());
+    initialize(&mut c, json!({}));
+    let uri = file_uri(&dir.path().join("junk.rig.yaml"));
+    // Texts that are not rigs at all: binary junk, deep nesting, an unclosed flow list.
+    for text in [
+        "\u{0}\u{1}\u{fffd}{{{{[[[[".to_string(),
+        "[".repeat(100_000),
+        "channels: [ { name: a, clock: ".to_string(),
+    ] {
+        open(&mut c, &uri, &text);
+        let d = c.diagnostics(&uri);
+        assert_eq!(d[0]["code"], "yaml-syntax", "{d}");
+        c.notify(
+            "textDocument/didClose",
+            json!({ "textDocument": { "uri": uri } }),
+        );
+        assert_eq!(c.diagnostics(&uri), json!([]));
+    }
+    // Bad parameters: an error response with the code for invalid parameters.
+    let r = c.request("textDocument/hover", json!({ "position": "here" }));
+    assert_eq!(r["error"]["code"], -32602, "{r}");
+    // Positions far outside a document, and requests about documents never opened.
+    open(&mut c, &uri, "format: 1\n");
+    c.diagnostics(&uri);
+    for method in [
+        "textDocument/hover",
+        "textDocument/definition",
+        "textDocument/completion",
+    ] {
+        let r = c.request(
+            method,
+            json!({ "textDocument": { "uri": uri }, "position": pos(4_000_000, 4_000_000) }),
+        );
+        assert_eq!(r["result"], Value::Null, "{method}: {r}");
+        let r = c.request(
+            method,
+            json!({ "textDocument": { "uri": "file:///nowhere.rig.yaml" }, "position": pos(0, 0) }),
+        );
+        assert_eq!(r["result"], Value::Null, "{method}: {r}");
+    }
+    // A change whose range lies beyond the text is clamped to its end.
+    c.notify(
+        "textDocument/didChange",
+        json!({ "textDocument": { "uri": uri, "version": 2 },
+                "contentChanges": [{ "range": range(90, 0, 99, 9), "text": "rig: x\n" }] }),
+    );
+    let d = c.diagnostics(&uri);
+    assert!(
+        d.as_array()
+            .unwrap()
+            .iter()
+            .all(|d| d["code"] != "yaml-syntax"),
+        "{d}"
+    );
+    assert!(c.shutdown().success());
+}
