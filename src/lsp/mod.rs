@@ -632,12 +632,13 @@ impl Server<'_> {
     }
 }
 
-/// Whether a suppression comment may name the rule: input rules (the file cannot be
-/// read as a rig: syntax, shape, names, references, includes, clock loops, a missing
-/// band) are always errors, and a suppression comment does not suppress itself.
+/// Whether a suppression comment may name the rule: input rules are always errors (see
+/// [`crate::finding::is_input_rule`]), and a suppression comment does not suppress a
+/// `suppression` finding.
 pub fn suppressible(rule: &str) -> bool {
-    crate::rules::rule(rule)
-        .is_some_and(|r| r.stage == crate::rules::Stage::Physics && r.name != "missing-band")
+    !crate::finding::is_input_rule(rule)
+        && rule != "suppression"
+        && crate::rules::rule(rule).is_some()
 }
 
 /// The file a URI names; a URI that is not a file (an unsaved buffer) gets a path in the
