@@ -7,7 +7,9 @@ use std::path::Path;
 
 use foldcheck::signal::analog::{Analog, AnalogKind, MAX_ORDER};
 use foldcheck::signal::design::{max_cutoff_for, min_order_for};
-use foldcheck::signal::digital::{digital_attenuation_db, sinc_attenuation_db};
+use foldcheck::signal::digital::{
+    digital_attenuation_db, sinc_attenuation_db, sinc_delay_samples,
+};
 use foldcheck::signal::fold::{
     fold, folds_into_band, ideal_dynamic_range_db, images, lowest_folding_frequency,
 };
@@ -93,6 +95,82 @@ fn analog_attenuation_and_phase_match_scipy_freqs() {
     }
     assert!(deepest > 400.0, "the table should reach deep stopband rows");
     assert_no_failures("filters.csv", rows.len(), &failures);
+}
+
+// ---------------------------------------------------------------------------------
+// Group delay vs scipy.signal's analog prototypes (butter / cheby1 / bessel(norm='mag'),
+// analog=True, output='zpk'), closed form over the poles, cross-checked in the script
+// against a numerical derivative of freqs_zpk's unwrapped phase.
+// Table: tests/reference/group_delay.py.
+// ---------------------------------------------------------------------------------
+
+#[test]
+fn analog_group_delay_matches_scipy_poles_and_zeros() {
+    let rows = read_table(
+        "group_delay.csv",
+        "kind,ripple_db,order,cutoff_hz,f_hz,group_delay_s",
+    );
+    // Every family and order 1–12 at 25 frequencies from 0.1 to 10 × cutoff.
+    assert_eq!(rows.len(), 12 * 5 * 25, "group_delay.csv is incomplete");
+    let mut failures = Vec::new();
+    let mut worst: f64 = 0.0;
+    for r in &rows {
+        let kind = match r[0].as_str() {
+            "butterworth" => AnalogKind::Butterworth,
+            "chebyshev" => AnalogKind::Chebyshev {
+                ripple_db: num(&r[1]),
+            },
+            "bessel" => AnalogKind::Bessel,
+            other => panic!("unknown kind {other}"),
+        };
+        let filter = Analog::new(kind, r[2].parse().unwrap(), num(&r[3]));
+        let f = num(&r[4]);
+        let want = num(&r[5]);
+        let got = filter.group_delay_s(f);
+        let rel = ((got - want) / want).abs();
+        worst = worst.max(rel);
+        if rel > 1e-9 {
+            failures.push(format!(
+                "{filter:?} at {f} Hz: {got} s vs scipy {want} s"
+            ));
+        }
+    }
+    assert_no_failures("group_delay.csv", rows.len(), &failures);
+    assert!(worst > 0.0, "the comparison must see rounding, not identical values");
+}
+
+#[test]
+fn butterworth_first_order_group_delay_is_the_rc_form() {
+    // A first-order low-pass 1/(1 + jω/ωc): τ(ω) = ωc / (ωc² + ω²) (textbook closed form),
+    // so 1/ωc at DC and half that at the cutoff.
+    let fc = 1000.0;
+    let wc = 2.0 * PI * fc;
+    let b = Analog::new(AnalogKind::Butterworth, 1, fc);
+    assert!((b.group_delay_s(0.0) - 1.0 / wc).abs() < 1e-18);
+    assert!((b.group_delay_s(fc) - 0.5 / wc).abs() < 1e-18);
+    assert!((b.group_delay_s(-fc) - b.group_delay_s(fc)).abs() < 1e-18);
+}
+
+// ---------------------------------------------------------------------------------
+// Sinc (CIC) delay vs the centroid of N cascaded M-tap moving averages (numpy.convolve),
+// closed form N·(M − 1)/2 (Hogenauer 1981, from memory). Table: tests/reference/cic_delay.py.
+// ---------------------------------------------------------------------------------
+
+#[test]
+fn sinc_delay_matches_the_centroid_of_cascaded_moving_averages() {
+    let rows = read_table("cic_delay.csv", "order,factor,delay_samples");
+    assert_eq!(rows.len(), 6 * 9, "cic_delay.csv is incomplete");
+    for r in &rows {
+        let (order, factor) = (r[0].parse().unwrap(), r[1].parse().unwrap());
+        let want = num(&r[2]);
+        let got = sinc_delay_samples(order, factor);
+        assert!(
+            (got - want).abs() < 1e-9,
+            "order {order} factor {factor}: {got} vs centroid {want}"
+        );
+    }
+    // The case that motivated it: 5th order ÷ 8 is 17.5 input samples.
+    assert_eq!(sinc_delay_samples(5, 8), 17.5);
 }
 
 #[test]

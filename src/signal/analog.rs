@@ -92,6 +92,25 @@ impl Analog {
         radians.to_degrees()
     }
 
+    /// Group delay in seconds at `f_hz`, by the closed form over the poles (the filters
+    /// here have no finite zeros): with ω = 2πf and each pole p in rad/s,
+    /// τ(ω) = Σ −Re(p) / (Re(p)² + (ω − Im(p))²). No finite difference is taken.
+    ///
+    /// The delay is even in `f_hz`; at DC it is the filter's low-frequency delay.
+    ///
+    /// # Panics
+    /// If the parameters are not [valid](Self::is_valid).
+    pub fn group_delay_s(&self, f_hz: f64) -> f64 {
+        self.assert_valid();
+        // In units normalised to the cutoff: p = 2π·fc·(σ + jβ), ω = 2π·fc·x, so each
+        // term is −σ / (σ² + (x − β)²) divided by 2π·fc.
+        let x = f_hz.abs() / self.cutoff_hz;
+        let normalised: f64 = normalized_poles(self.kind, self.order)
+            .map(|(sigma, beta)| -sigma / (sigma * sigma + (x - beta) * (x - beta)))
+            .sum();
+        normalised / (2.0 * PI * self.cutoff_hz)
+    }
+
     /// Poles `(re, im)` of the filter in Hz-normalised units: the poles of the transfer
     /// function with frequency measured as `f / cutoff_hz` (all have `re < 0`).
     ///

@@ -88,3 +88,13 @@ fn ln_sinc(y: f64) -> f64 {
         (y.sin() / y).ln()
     }
 }
+
+/// Group delay of an order-`order` sinc (CIC) stage of factor `factor`, in samples of the
+/// stage's input rate: `order · (factor − 1) / 2`.
+///
+/// Each of the N cascaded M-tap moving averages is a symmetric FIR filter of length M,
+/// hence linear-phase with a delay of (M − 1)/2 samples; the cascade adds them
+/// (Hogenauer 1981). The value may be a half sample (N odd, M even).
+pub fn sinc_delay_samples(order: u32, factor: u32) -> f64 {
+    f64::from(order) * (f64::from(factor) - 1.0) / 2.0
+}
