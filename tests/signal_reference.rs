@@ -7,9 +7,7 @@ use std::path::Path;
 
 use foldcheck::signal::analog::{Analog, AnalogKind, MAX_ORDER};
 use foldcheck::signal::design::{max_cutoff_for, min_order_for};
-use foldcheck::signal::digital::{
-    digital_attenuation_db, sinc_attenuation_db, sinc_delay_samples,
-};
+use foldcheck::signal::digital::{digital_attenuation_db, sinc_attenuation_db, sinc_delay_samples};
 use foldcheck::signal::fold::{
     fold, folds_into_band, ideal_dynamic_range_db, images, lowest_folding_frequency,
 };
@@ -130,13 +128,14 @@ fn analog_group_delay_matches_scipy_poles_and_zeros() {
         let rel = ((got - want) / want).abs();
         worst = worst.max(rel);
         if rel > 1e-9 {
-            failures.push(format!(
-                "{filter:?} at {f} Hz: {got} s vs scipy {want} s"
-            ));
+            failures.push(format!("{filter:?} at {f} Hz: {got} s vs scipy {want} s"));
         }
     }
     assert_no_failures("group_delay.csv", rows.len(), &failures);
-    assert!(worst > 0.0, "the comparison must see rounding, not identical values");
+    assert!(
+        worst > 0.0,
+        "the comparison must see rounding, not identical values"
+    );
 }
 
 #[test]

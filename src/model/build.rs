@@ -338,6 +338,7 @@ impl<'a> Builder<'a> {
             filters: None,
             alias_rejection: None,
             throughput: None,
+            modulator: None,
         };
         let mut named = false;
         for (k, v) in self.entries(node) {
@@ -358,6 +359,7 @@ impl<'a> Builder<'a> {
                 "filters" => m.filters = self.filters(v, false),
                 "alias-rejection" => m.alias_rejection = self.db_positive(v),
                 "throughput" => m.throughput = self.quantity_f64(v, Kind::DataRate, true),
+                "modulator" => m.modulator = self.modulator(v),
                 _ => {}
             }
         }
@@ -447,6 +449,7 @@ impl<'a> Builder<'a> {
         let mut passband = None;
         let mut stopband = None;
         let mut attenuation = None;
+        let mut delay = None;
         for (k, v) in self.entries(node) {
             match k.as_str().unwrap_or("") {
                 "response" => kind = self.string(v),
@@ -457,6 +460,18 @@ impl<'a> Builder<'a> {
                 "passband-edge" => passband = self.fraction(v),
                 "stopband-edge" => stopband = self.fraction(v),
                 "attenuation" => attenuation = self.db_positive(v),
+                "delay" => {
+                    delay = self
+                        .quantity_f64(v, Kind::Duration, false)
+                        .and_then(|d| self.non_negative(d, v, "a delay"))
+                        .map(|d| DigitalDelay::Seconds(d.value))
+                }
+                "delay-samples" => {
+                    delay = self
+                        .number(v)
+                        .and_then(|d| self.non_negative(d, v, "a delay in samples"))
+                        .map(|d| DigitalDelay::Samples(d.value))
+                }
                 _ => {}
             }
         }
@@ -481,6 +496,7 @@ impl<'a> Builder<'a> {
                 passband_edge: f(passband)?,
                 stopband_edge: f(stopband)?,
                 attenuation: f(attenuation)?,
+                delay,
             },
             Some("sinc") if in_stage && order.as_ref().is_some_and(|o| o.value <= 6) => {
                 Response::Sinc { order: v(order)? }
@@ -493,6 +509,57 @@ impl<'a> Builder<'a> {
         Some(Filter {
             span: node.span,
             response,
+        })
+    }
+
+    /// Refuse a negative value with a `quantity` finding (zero is allowed: a delay may
+    /// be zero).
+    fn non_negative(&mut self, value: Sp<f64>, node: &Node, what: &str) -> Option<Sp<f64>> {
+        if value.value >= 0.0 {
+            return Some(value);
+        }
+        self.broken = true;
+        self.findings.push(
+            Finding::new(
+                "quantity",
+                Severity::Error,
+                Label::new(node.span, "negative"),
+                format!(
+                    "{what} cannot be negative, found `{}`",
+                    self.quantity_text(node).unwrap_or_default().trim()
+                ),
+            )
+            .with_help("a filter cannot answer before its input; write the delay as 0 or more"),
+        );
+        None
+    }
+
+    /// A module's `modulator` mapping.
+    fn modulator(&mut self, node: &Node) -> Option<Modulator> {
+        let mut rate = None;
+        let mut ratio = None;
+        let mut filter = None;
+        for (k, v) in self.entries(node) {
+            match k.as_str().unwrap_or("") {
+                "rate" => rate = self.hz(v),
+                "oversampling-ratio" => ratio = self.uint(v, 1, u32::MAX.into()),
+                "filter" => filter = self.filter(v, false),
+                _ => {}
+            }
+        }
+        let rate = match (rate, ratio) {
+            (Some(r), None) => ModulatorRate::Rate(r),
+            (None, Some(k)) => ModulatorRate::Ratio(k),
+            _ => {
+                // Both or neither: the schema reports it.
+                self.broken = true;
+                return None;
+            }
+        };
+        Some(Modulator {
+            span: node.span,
+            rate,
+            filter,
         })
     }
 

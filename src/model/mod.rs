@@ -165,6 +165,52 @@ pub struct Module {
     pub alias_rejection: Option<Sp<f64>>,
     /// Data-rate limit in bytes/s.
     pub throughput: Option<Sp<f64>>,
+    /// The delta-sigma modulator of its converter, if described.
+    pub modulator: Option<Modulator>,
+}
+
+/// How fast a delta-sigma modulator runs.
+#[derive(Clone, Debug, PartialEq)]
+pub enum ModulatorRate {
+    /// An absolute rate in Hz (an integer multiple of the ADC output rate).
+    Rate(Sp<Exact>),
+    /// The oversampling ratio: modulator rate = ratio × ADC output rate.
+    Ratio(Sp<u64>),
+}
+
+/// A module's delta-sigma modulator: its rate and the converter's own digital filter.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Modulator {
+    /// The `modulator` mapping.
+    pub span: Span,
+    /// Its rate, absolute or as an oversampling ratio.
+    pub rate: ModulatorRate,
+    /// The converter's own decimation filter (a `digital` response), applied to every
+    /// channel on the module, periodic in the modulator rate.
+    pub filter: Option<Filter>,
+}
+
+impl Modulator {
+    /// The modulator rate for an ADC output rate of `adc_rate`, exact.
+    ///
+    /// `None` if the product overflows.
+    pub fn rate_for(&self, adc_rate: Exact) -> Option<Exact> {
+        match &self.rate {
+            ModulatorRate::Rate(r) => Some(r.value),
+            ModulatorRate::Ratio(k) => {
+                use num_traits::CheckedMul;
+                adc_rate.checked_mul(&Exact::from_integer(i128::from(k.value)))
+            }
+        }
+    }
+
+    /// The span of the value that sets the rate (`rate` or `oversampling-ratio`).
+    pub fn rate_span(&self) -> Span {
+        match &self.rate {
+            ModulatorRate::Rate(r) => r.span,
+            ModulatorRate::Ratio(k) => k.span,
+        }
+    }
 }
 
 /// One decimation stage.
@@ -295,12 +341,34 @@ pub enum Response {
         stopband_edge: f64,
         /// Stopband attenuation in dB.
         attenuation: f64,
+        /// Its group delay, when given (`delay` or `delay-samples`).
+        delay: Option<DigitalDelay>,
     },
     /// A sinc (CIC) decimator of this order.
     Sinc {
         /// 1–6.
         order: u32,
     },
+}
+
+/// The declared group delay of a `digital` filter.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum DigitalDelay {
+    /// `delay`: a duration in seconds (≥ 0).
+    Seconds(f64),
+    /// `delay-samples`: samples of the output rate of the stage the filter belongs to
+    /// (for a converter's own filter, of the ADC output rate); ≥ 0, may be fractional.
+    Samples(f64),
+}
+
+impl DigitalDelay {
+    /// The delay in seconds for a filter whose stage outputs `output_rate_hz`.
+    pub fn seconds(self, output_rate_hz: f64) -> f64 {
+        match self {
+            DigitalDelay::Seconds(s) => s,
+            DigitalDelay::Samples(n) => n / output_rate_hz,
+        }
+    }
 }
 
 impl Response {

@@ -64,6 +64,11 @@ impl Kind {
             Kind::DataSize => &SIZE_UNITS,
             Kind::DataRate => &RATE_UNITS,
             Kind::Duration => &[
+                ("ns", 1, 1_000_000_000),
+                ("us", 1, 1_000_000),
+                // U+00B5 MICRO SIGN, the SI spelling; `us` is the ASCII one.
+                ("\u{b5}s", 1, 1_000_000),
+                ("ms", 1, 1_000),
                 ("s", 1, 1),
                 ("min", 60, 1),
                 ("h", 3_600, 1),
@@ -237,6 +242,13 @@ pub fn parse(text: &str, kind: Kind) -> Result<Exact, QuantityError> {
         return number
             .checked_mul(&Exact::new(*num, *den))
             .ok_or_else(|| out_of_range(t, kind));
+    }
+    // The Greek letter mu (U+03BC) looks like the micro sign but is another character.
+    if kind == Kind::Duration && unit == "\u{3bc}s" {
+        return Err(QuantityError::new(
+            format!("unknown unit `{unit_shown}` in `{shown}`: that is the Greek letter mu"),
+            Some("write `us` or `\u{b5}s` (the micro sign)".to_string()),
+        ));
     }
     // A near miss: the same letters in another case.
     if let Some((right, _, _)) = kind.units().iter().find(|u| u.0.eq_ignore_ascii_case(unit)) {
@@ -471,6 +483,31 @@ mod tests {
             parse("72 h", Kind::Duration).unwrap(),
             Exact::from_integer(259_200)
         );
+        // Short durations for delays: exact fractions of a second.
+        assert_eq!(
+            parse("0.684 ms", Kind::Duration).unwrap(),
+            Exact::new(684, 1_000_000)
+        );
+        assert_eq!(
+            parse("12 us", Kind::Duration).unwrap(),
+            Exact::new(12, 1_000_000)
+        );
+        assert_eq!(
+            parse("12 \u{b5}s", Kind::Duration).unwrap(),
+            Exact::new(12, 1_000_000)
+        );
+        assert_eq!(
+            parse("250 ns", Kind::Duration).unwrap(),
+            Exact::new(1, 4_000_000)
+        );
+        assert_eq!(parse("0 s", Kind::Duration).unwrap(), Exact::zero());
+        let e = parse("12 \u{3bc}s", Kind::Duration).unwrap_err();
+        assert!(
+            e.help.as_deref().is_some_and(|h| h.contains("`us`")),
+            "{e:?}"
+        );
+        let e = parse("3 MS", Kind::Duration).unwrap_err();
+        assert_eq!(e.help.as_deref(), Some("write `3 ms`"));
         assert!(parse("fast", Kind::Frequency).is_err());
         let e = parse("1e400 Hz", Kind::Frequency).unwrap_err();
         assert!(e.message.contains("out of the range"), "{}", e.message);

@@ -127,6 +127,13 @@ fn false_schema_help(path: &[String]) -> String {
         (Some("clocks"), "divide" | "multiply" | "source") => {
             "a root clock has a `frequency` and nothing else; a derived clock has a `source` (and `divide`/`multiply`)".to_string()
         }
+        (_, "delay-samples") => {
+            "give the filter's delay once: `delay` (a duration) or `delay-samples`, not both"
+                .to_string()
+        }
+        (_, "oversampling-ratio") => {
+            "give the modulator's `rate` or its `oversampling-ratio`, not both".to_string()
+        }
         _ => format!("remove `{key}`"),
     }
 }

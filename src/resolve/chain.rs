@@ -33,12 +33,16 @@ impl RateChange {
     }
 }
 
-/// How a filter is placed: at the ADC, or in a decimation stage.
+/// How a filter is placed: at the ADC, in a delta-sigma converter, or in a decimation
+/// stage.
 #[derive(Clone, Copy, Debug)]
 pub struct Placement {
     /// The output rate of the stage the filter belongs to (for `digital` edges).
     pub output_rate: f64,
-    /// The stage's input rate and factor, for a decimation stage.
+    /// The rate the filter runs at and the factor it decimates by: a decimation stage's
+    /// input rate and factor, or a converter's modulator rate and oversampling ratio.
+    /// A `digital` filter is periodic in that rate. `None` for an ADC-chain filter of a
+    /// converter without a described modulator (its stopband value holds).
     pub stage: Option<(f64, u32)>,
 }
 
@@ -53,6 +57,7 @@ pub fn filter_attenuation_db(r: &Response, f: f64, at: Placement) -> f64 {
             passband_edge,
             stopband_edge,
             attenuation,
+            ..
         } => digital::digital_attenuation_db(
             passband_edge * at.output_rate,
             stopband_edge * at.output_rate,
@@ -60,6 +65,7 @@ pub fn filter_attenuation_db(r: &Response, f: f64, at: Placement) -> f64 {
             f,
             at.stage.map(|(fin, _)| fin),
         ),
+        // A sinc filter only exists inside a decimation stage (the schema says so).
         Response::Sinc { order } => match at.stage {
             Some((fin, m)) => digital::sinc_attenuation_db(*order, m, fin, f),
             None => 0.0,
@@ -144,6 +150,20 @@ impl<'a> Chain<'a> {
         })
     }
 
+    /// The delta-sigma modulator of the channel's module, if it describes one.
+    pub fn modulator(&self) -> Option<&'a crate::model::Modulator> {
+        self.channel
+            .module
+            .and_then(|m| self.rig.modules[m].modulator.as_ref())
+    }
+
+    /// The modulator rate in Hz, if the module describes a modulator.
+    pub fn modulator_rate_hz(&self) -> Option<f64> {
+        self.modulator()
+            .and_then(|m| m.rate_for(self.adc_rate()))
+            .map(|r| to_f64(&r))
+    }
+
     /// The final rate (after the last stage).
     pub fn final_rate(&self) -> Exact {
         self.changes.last().expect("the ADC is always there").fs
@@ -164,21 +184,40 @@ impl<'a> Chain<'a> {
             Some(r) if upto == 0 => r,
             _ => to_f64(&self.changes[0].fs),
         };
-        let adc = Placement {
+        let analog_at = Placement {
             output_rate: fs0,
             stage: None,
+        };
+        // A converter with a described modulator runs its digital filters at the
+        // modulator rate, so they repeat there; without one they hold their stopband.
+        let adc = match self.modulator_rate_hz() {
+            Some(fmod) if fmod.is_finite() && fmod >= fs0 => Placement {
+                output_rate: fs0,
+                stage: Some((fmod, (fmod / fs0).round().max(1.0) as u32)),
+            },
+            _ => analog_at,
         };
         let mut v: Vec<(&'a Filter, Placement, &'static str)> = Vec::new();
         if let Some(s) = self.channel.sensor.map(|i| &self.rig.sensors[i])
             && let Some(resp) = &s.response
         {
-            v.extend(resp.value.iter().map(|f| (f, adc, "sensor response")));
+            v.extend(resp.value.iter().map(|f| (f, analog_at, "sensor response")));
         }
         let origin = match self.channel.filters_span {
             Some((_, o)) if o.contains("module") => "module filter",
             _ => "channel filter",
         };
-        v.extend(self.channel.filters.iter().map(|f| (f, adc, origin)));
+        v.extend(self.channel.filters.iter().map(|f| {
+            let at = if f.response.is_analog() || matches!(f.response, Response::Table { .. }) {
+                analog_at
+            } else {
+                adc
+            };
+            (f, at, origin)
+        }));
+        if let Some(f) = self.modulator().and_then(|m| m.filter.as_ref()) {
+            v.push((f, adc, "converter filter"));
+        }
         for (k, st) in self.channel.def.decimate.iter().enumerate().take(upto) {
             if let Some(f) = &st.filter {
                 let ch = &self.changes[k + 1];

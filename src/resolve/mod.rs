@@ -387,6 +387,9 @@ pub fn resolve(docs: &[&Document], settings: &ThresholdSettings) -> (Rig, Vec<Fi
     // Channels.
     let mut channel_names = Names::new("channel");
     let mut channels: Vec<RChannel> = Vec::new();
+    // (module, ADC rate) pairs whose modulator rate is no multiple of the ADC rate,
+    // with the first channel concerned and how many more.
+    let mut modulator_misfits: Vec<((usize, Exact), String, usize)> = Vec::new();
     for c in &rig_doc.channels {
         if !channel_names.add(&c.name, channels.len(), &mut out) {
             continue;
@@ -478,6 +481,20 @@ pub fn resolve(docs: &[&Document], settings: &ThresholdSettings) -> (Rig, Vec<Fi
                 ));
             }
         }
+        // A delta-sigma modulator runs at an integer multiple of the ADC output rate.
+        let mut modulator_ok = true;
+        if let (Some(mi), Some(adc)) = (module, clock.and_then(|k| clocks[k].rate))
+            && let Some(md) = &modules[mi].modulator
+            && let ModulatorRate::Rate(r) = &md.rate
+            && !(r.value / adc).is_integer()
+        {
+            modulator_ok = false;
+            let key = (mi, adc);
+            match modulator_misfits.iter_mut().find(|(k, _, _)| *k == key) {
+                Some((_, _, others)) => *others += 1,
+                None => modulator_misfits.push((key, c.name.value.clone(), 0)),
+            }
+        }
         channels.push(RChannel {
             def: c.clone(),
             clock,
@@ -488,8 +505,38 @@ pub fn resolve(docs: &[&Document], settings: &ThresholdSettings) -> (Rig, Vec<Fi
             filters_span,
             rejection,
             sample_bits,
-            ok: refs_ok && clock_ok && stages_ok && !c.broken,
+            ok: refs_ok && clock_ok && stages_ok && modulator_ok && !c.broken,
         });
+    }
+    for ((mi, adc), first, others) in modulator_misfits {
+        let md = modules[mi]
+            .modulator
+            .as_ref()
+            .expect("only modules with a modulator are listed");
+        let rate = md.rate_for(adc).map_or(f64::NAN, |r| to_f64(&r));
+        let users = match others {
+            0 => format!("channel `{first}`"),
+            n => format!("channel `{first}` and {n} more"),
+        };
+        let ratio = rate / to_f64(&adc);
+        out.push(
+            Finding::new(
+                "quantity",
+                Severity::Error,
+                Label::new(md.rate_span(), "not a multiple of the ADC rate"),
+                format!(
+                    "the modulator rate {} of module `{}` is not an integer multiple of the {} ADC rate of {users}",
+                    format_hz(rate),
+                    modules[mi].name.value,
+                    format_hz(to_f64(&adc))
+                ),
+            )
+            .with_help(format!(
+                "a delta-sigma converter's output rate is its modulator rate divided by a whole number: write `oversampling-ratio: {}` or a `rate` of {}",
+                ratio.round().max(1.0),
+                format_hz(ratio.round().max(1.0) * to_f64(&adc))
+            )),
+        );
     }
 
     let mut group_names = Names::new("group");

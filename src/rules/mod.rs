@@ -7,6 +7,7 @@
 
 mod alias_rejection;
 mod budget;
+mod delta_sigma;
 mod disturbance_alias;
 mod fix;
 mod groups;
@@ -85,9 +86,11 @@ pub static RULES: &[&Rule] = &[
     &misc::OVERSAMPLING,
     &groups::GROUP_CLOCK,
     &groups::GROUP_PHASE,
+    &groups::GROUP_INCOMPLETE,
     &budget::THROUGHPUT,
     &budget::STORAGE,
     &misc::UNUSED_CLOCK,
+    &delta_sigma::MODULATOR_UNKNOWN,
     &stage_rules::SUPPRESSION,
 ];
 
