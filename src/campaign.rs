@@ -18,6 +18,11 @@ use std::sync::{Arc, Mutex, OnceLock};
 /// The default largest file foldcheck reads (64 MiB).
 pub const DEFAULT_MAX_FILE_BYTES: u64 = 64 * 1024 * 1024;
 
+/// The deepest chain of includes (a rig including a catalog including another …) read:
+/// real campaigns nest two or three deep; a deeper chain is refused with an `include`
+/// finding rather than read with ever deeper recursion.
+pub const MAX_INCLUDE_DEPTH: usize = 64;
+
 /// Progress is shown for runs of at least this many files.
 const PROGRESS_FROM: usize = 50;
 
@@ -110,7 +115,10 @@ struct Loaded {
 
 struct Ctx {
     sources: Mutex<Sources>,
-    catalogs: Mutex<HashMap<PathBuf, Arc<OnceLock<Arc<Loaded>>>>>,
+    /// Each catalog, by canonical path, loaded once: the loaded file, or why it could
+    /// not be read (kept, so every rig that includes it gets the same answer whichever
+    /// thread loaded it first).
+    catalogs: Mutex<HashMap<PathBuf, Arc<OnceLock<Result<Arc<Loaded>, String>>>>>,
     max_file_bytes: u64,
     overlay: Option<Arc<Overlay>>,
 }
@@ -227,7 +235,7 @@ fn finish(ctx: Ctx, results: Vec<RigResult>, files: usize) -> Outcome {
     // Catalog findings, once each.
     let catalogs = ctx.catalogs.into_inner().expect("no thread panicked");
     for cell in catalogs.values() {
-        if let Some(c) = cell.get() {
+        if let Some(Ok(c)) = cell.get() {
             findings.extend(c.findings.iter().cloned());
             suppressions.extend(c.suppressions.iter().cloned());
         }
@@ -724,7 +732,7 @@ fn lint_loaded(ctx: &Ctx, job: &Job, keep: bool, mut loaded: Loaded) -> RigResul
     }
     let channels = doc.channels.len();
     // Includes, depth first, each catalog once per rig.
-    let mut catalogs: Vec<Arc<Loaded>> = Vec::new();
+    let mut catalogs = Included::default();
     let mut stack = vec![absolute(&job.path)];
     let root = canonical_or_self(&job.root);
     include_all(
@@ -738,7 +746,7 @@ fn lint_loaded(ctx: &Ctx, job: &Job, keep: bool, mut loaded: Loaded) -> RigResul
         &mut out,
     );
     let mut docs: Vec<&Document> = vec![&doc];
-    docs.extend(catalogs.iter().filter_map(|c| c.doc.as_ref()));
+    docs.extend(catalogs.list.iter().filter_map(|c| c.doc.as_ref()));
     let (rig, resolve_findings) = resolve::resolve(&docs, &job.settings.thresholds);
     out.extend(resolve_findings);
     out.extend(crate::rules::check_rig(&rig));
@@ -766,6 +774,15 @@ fn canonical_or_self(p: &Path) -> PathBuf {
     std::fs::canonicalize(p).unwrap_or_else(|_| p.to_path_buf())
 }
 
+/// The catalogs one rig includes, in include order, and their canonical paths (so that
+/// a catalog reached along two paths is read once, without asking the file system
+/// again for every catalog already included).
+#[derive(Default)]
+struct Included {
+    list: Vec<Arc<Loaded>>,
+    real: std::collections::HashSet<PathBuf>,
+}
+
 #[allow(clippy::too_many_arguments)]
 fn include_all(
     ctx: &Ctx,
@@ -774,7 +791,7 @@ fn include_all(
     display_path: &str,
     root: &Path,
     stack: &mut Vec<PathBuf>,
-    catalogs: &mut Vec<Arc<Loaded>>,
+    catalogs: &mut Included,
     out: &mut Vec<Finding>,
 ) {
     let dir = path.parent().unwrap_or(Path::new(""));
@@ -791,6 +808,16 @@ fn include_all(
             )
             .with_help(help)
         };
+        if stack.len() > MAX_INCLUDE_DEPTH {
+            out.push(include_finding(
+                "one include too deep",
+                format!(
+                    "includes nest more than {MAX_INCLUDE_DEPTH} deep, over the limit for reading a campaign safely"
+                ),
+                "include the catalogs from fewer levels (a rig may include many catalogs directly)",
+            ));
+            continue;
+        }
         if stack.contains(&abs) {
             let mut chain: Vec<String> = stack
                 .iter()
@@ -837,7 +864,7 @@ fn include_all(
             ));
             continue;
         }
-        if catalogs.iter().any(|c| canonical_of(ctx, c.file) == real) {
+        if !catalogs.real.insert(real.clone()) {
             continue; // included twice along different paths: once is enough
         }
         let cell = {
@@ -845,34 +872,19 @@ fn include_all(
             map.entry(real.clone()).or_default().clone()
         };
         let display = display(&normalize(&display_dir.join(&inc.value)));
-        let mut failed = None;
-        let loaded = cell.get_or_init(|| {
-            let r = load(ctx, &real, display.clone(), Role::Catalog);
-            match r {
-                Ok(l) => Arc::new(l),
-                Err(why) => {
-                    failed = Some(why);
-                    Arc::new(Loaded {
-                        file: FileId::MAX,
-                        doc: None,
-                        findings: Vec::new(),
-                        suppressions: Vec::new(),
-                    })
-                }
+        let loaded =
+            cell.get_or_init(|| load(ctx, &real, display.clone(), Role::Catalog).map(Arc::new));
+        let loaded = match loaded {
+            Ok(l) => l,
+            Err(why) => {
+                out.push(include_finding(
+                    "cannot be read",
+                    format!("the included file `{}` cannot be read: {why}", inc.value),
+                    "include a regular file (a catalog of clocks, sensors and modules)",
+                ));
+                continue;
             }
-        });
-        if loaded.file == FileId::MAX {
-            out.push(include_finding(
-                "unreadable",
-                format!(
-                    "the included file `{}` cannot be read: {}",
-                    inc.value,
-                    failed.unwrap_or_else(|| "unreadable".to_string())
-                ),
-                "check the file's permissions and type",
-            ));
-            continue;
-        }
+        };
         let loaded = loaded.clone();
         if let Some(cdoc) = &loaded.doc {
             if let Some((key, span)) = cdoc.rig_only_keys.first() {
@@ -894,22 +906,11 @@ fn include_all(
                 .get(loaded.file)
                 .display
                 .clone();
-            catalogs.push(loaded.clone());
+            catalogs.list.push(loaded.clone());
             include_all(ctx, cdoc, &cdoc_path, &cdisplay, root, stack, catalogs, out);
             stack.pop();
         } else {
-            catalogs.push(loaded);
+            catalogs.list.push(loaded);
         }
     }
-}
-
-fn canonical_of(ctx: &Ctx, file: FileId) -> PathBuf {
-    let path = ctx
-        .sources
-        .lock()
-        .expect("no thread panicked")
-        .get(file)
-        .path
-        .clone();
-    canonical_or_self(&path)
 }

@@ -218,3 +218,170 @@ fn settings_option_naming_a_fifo_is_refused_instead_of_hanging() {
         "{err}"
     );
 }
+
+// ---- the same input gives the same output
+
+/// A campaign built to race: `rigs` rigs that include a directory, a missing file, a
+/// catalog that does not parse and a shared catalog with a finding of its own, each rig
+/// with a channel that raises rate findings.
+fn racing_campaign(dir: &std::path::Path, rigs: usize) {
+    use std::fs;
+    fs::create_dir_all(dir.join("sub.yaml")).unwrap();
+    fs::create_dir_all(dir.join("cat")).unwrap();
+    fs::write(
+        dir.join("shared.yaml"),
+        "format: 1\ncatalog: shared\nclocks:\n  - name: lab-osc\n    frequency: 24.576 MHz\n  - name: lab-osc\n    frequency: 1 MHz\n",
+    )
+    .unwrap();
+    fs::write(dir.join("broken.yaml"), "format: 1\ncatalog: [unclosed\n").unwrap();
+    for i in 0..rigs {
+        let sub = dir.join(format!("bay-{:02}", i % 7));
+        fs::create_dir_all(&sub).unwrap();
+        fs::write(
+            sub.join(format!("rig-{i:03}.rig.yaml")),
+            format!(
+                "format: 1\nrig: rig-{i:03}\ninclude:\n  - ../sub.yaml\n  - ../cat/\n  - ../missing-{}.yaml\n  - ../broken.yaml\n  - ../shared.yaml\nclocks:\n  - name: frame\n    source: lab-osc\n    divide: {}\nchannels:\n  - name: ch-{i}\n    clock: frame\n    band: {} kHz\n",
+                i % 3,
+                256 + 32 * (i % 5),
+                8 + i % 11,
+            ),
+        )
+        .unwrap();
+    }
+}
+
+#[test]
+fn failed_include_gives_every_rig_the_same_reason() {
+    // Regression: the first rig to load a failing include got "is a directory, not a
+    // regular file", the others a bare "unreadable", depending on thread timing.
+    let tmp = tempfile::tempdir().unwrap();
+    racing_campaign(tmp.path(), 40);
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_foldcheck"))
+        .args(["check", "--format", "json", "."])
+        .current_dir(tmp.path())
+        .env("RAYON_NUM_THREADS", "8")
+        .output()
+        .unwrap();
+    let report: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let include: Vec<&str> = report["findings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|f| f["rule"] == "include" && f["line"] == 4)
+        .map(|f| f["message"].as_str().unwrap())
+        .collect();
+    assert_eq!(include.len(), 40);
+    assert!(
+        include.iter().all(|m| *m
+            == "the included file `../sub.yaml` cannot be read: is a directory, not a regular file"),
+        "{include:#?}"
+    );
+    let cat: Vec<&str> = report["findings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|f| f["rule"] == "include" && f["line"] == 5)
+        .map(|f| f["message"].as_str().unwrap())
+        .collect();
+    assert_eq!(cat.len(), 40);
+    assert!(
+        cat.iter().all(|m| *m
+            == "the included file `../cat/` cannot be read: is a directory, not a regular file"),
+        "{cat:#?}"
+    );
+}
+
+/// The output with the elapsed time of the human summary masked.
+fn masked(bytes: &[u8]) -> String {
+    let text = String::from_utf8_lossy(bytes);
+    let re = regex::Regex::new(r"\(\d+ ms\)").unwrap();
+    re.replace_all(&text, "(… ms)").into_owned()
+}
+
+#[test]
+fn output_is_byte_identical_across_runs_and_thread_counts() {
+    // 20 runs of every output format of `check` (and of `diff` against a copy), with
+    // 1, 2 and 8 rayon threads in turn, on a campaign of 40 rigs with failing includes.
+    let tmp = tempfile::tempdir().unwrap();
+    let old = tmp.path().join("old");
+    let new = tmp.path().join("new");
+    racing_campaign(&old, 40);
+    racing_campaign(&new, 40);
+    let runs: Vec<(&str, Vec<&str>)> = vec![
+        ("check human", vec!["check", "--color", "never", "old"]),
+        ("check json", vec!["check", "--format", "json", "old"]),
+        ("check sarif", vec!["check", "--format", "sarif", "old"]),
+        ("diff human", vec!["diff", "old", "new"]),
+        ("diff json", vec!["diff", "--format", "json", "old", "new"]),
+        (
+            "diff markdown",
+            vec!["diff", "--format", "markdown", "old", "new"],
+        ),
+    ];
+    for (what, args) in &runs {
+        let mut first: Option<(String, Option<i32>)> = None;
+        for run in 0..20 {
+            let threads = ["1", "2", "8"][run % 3];
+            let out = std::process::Command::new(env!("CARGO_BIN_EXE_foldcheck"))
+                .args(args)
+                .current_dir(tmp.path())
+                .env("RAYON_NUM_THREADS", threads)
+                .env_remove("NO_COLOR")
+                .output()
+                .unwrap();
+            let got = (masked(&out.stdout), out.status.code());
+            assert!(!got.0.is_empty(), "{what}: no output");
+            match &first {
+                None => first = Some(got),
+                Some(f) => assert!(
+                    *f == got,
+                    "{what}: run {run} with {threads} threads differs from run 0"
+                ),
+            }
+        }
+        let (_, code) = first.unwrap();
+        if what.starts_with("diff") {
+            // A copy of a campaign introduces nothing.
+            assert_eq!(code, Some(0), "{what}");
+        } else {
+            assert_eq!(code, Some(1), "{what}");
+        }
+    }
+}
+
+#[test]
+fn include_chain_deeper_than_the_limit_is_a_finding_not_a_stack_overflow() {
+    let tmp = tempfile::tempdir().unwrap();
+    let dir = tmp.path();
+    std::fs::write(
+        dir.join("d.rig.yaml"),
+        "format: 1\nrig: d\ninclude: [c0.yaml]\n",
+    )
+    .unwrap();
+    for i in 0..3000 {
+        let inc = if i + 1 < 3000 {
+            format!("include: [c{}.yaml]\n", i + 1)
+        } else {
+            String::new()
+        };
+        std::fs::write(
+            dir.join(format!("c{i}.yaml")),
+            format!("format: 1\ncatalog: c{i}\n{inc}"),
+        )
+        .unwrap();
+    }
+    let (report, code) = common::check_json(dir, &["d.rig.yaml"]);
+    assert_eq!(code, 1);
+    let f: Vec<String> = report["findings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|f| format!("{} {}", f["file"].as_str().unwrap(), common::plain(f)))
+        .collect();
+    assert_eq!(
+        f,
+        [
+            "c63.yaml error include 3:11-3:19 includes nest more than 64 deep, over the limit for reading a campaign safely\n  help: include the catalogs from fewer levels (a rig may include many catalogs directly)"
+        ]
+    );
+}
