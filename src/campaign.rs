@@ -113,12 +113,15 @@ struct Loaded {
     suppressions: Vec<Suppression>,
 }
 
+/// A catalog once loaded, or why it could not be read.
+type CatalogLoad = Result<Arc<Loaded>, String>;
+
 struct Ctx {
     sources: Mutex<Sources>,
     /// Each catalog, by canonical path, loaded once: the loaded file, or why it could
     /// not be read (kept, so every rig that includes it gets the same answer whichever
     /// thread loaded it first).
-    catalogs: Mutex<HashMap<PathBuf, Arc<OnceLock<Result<Arc<Loaded>, String>>>>>,
+    catalogs: Mutex<HashMap<PathBuf, Arc<OnceLock<CatalogLoad>>>>,
     max_file_bytes: u64,
     overlay: Option<Arc<Overlay>>,
 }
