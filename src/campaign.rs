@@ -88,10 +88,14 @@ pub struct RigOutcome {
     pub file: FileId,
     /// The rig, when it resolved and `keep_rigs` was set.
     pub rig: Option<Rig>,
+    /// The catalogs it includes, directly or not.
+    pub includes: Vec<FileId>,
+    /// Its index in [`Outcome::jobs`].
+    pub(crate) job: usize,
 }
 
 /// What a run found.
-#[derive(Debug)]
+#[derive(Debug, Default)]
 pub struct Outcome {
     /// Every file read.
     pub sources: Sources,
@@ -103,6 +107,10 @@ pub struct Outcome {
     pub channels: usize,
     /// Per rig file, in path order.
     pub rigs: Vec<RigOutcome>,
+    /// What was linted, to lint it again with edits applied.
+    pub(crate) jobs: Vec<Job>,
+    /// The texts that stood in for files.
+    pub(crate) overlay: Option<Arc<Overlay>>,
 }
 
 /// One loaded file: its text is in [`Sources`], its tree is kept for suppressions.
@@ -127,12 +135,12 @@ struct Ctx {
 }
 
 impl Ctx {
-    fn new(max_file_bytes: u64) -> Self {
+    fn new(max_file_bytes: u64, overlay: Option<Arc<Overlay>>) -> Self {
         Ctx {
             sources: Mutex::new(Sources::new()),
             catalogs: Mutex::new(HashMap::new()),
             max_file_bytes,
-            overlay: None,
+            overlay,
         }
     }
 }
@@ -152,28 +160,40 @@ fn overlay_text<'a>(overlay: Option<&'a Overlay>, path: &Path) -> Option<&'a str
 }
 
 /// A rig file to lint, with its campaign root and settings.
-struct Job {
-    path: PathBuf,
+#[derive(Clone, Debug)]
+pub(crate) struct Job {
+    pub(crate) path: PathBuf,
     display: String,
-    root: PathBuf,
-    settings: Arc<Settings>,
+    pub(crate) root: PathBuf,
+    pub(crate) settings: Arc<Settings>,
     /// A catalog named on the command line that no rig under its campaign root includes
     /// is checked on its own (syntax, schema, names, clocks).
     role: Role,
 }
 
-/// Lint the given paths (files and directories).
+/// Lint the given paths (files and directories). Proposed fixes are verified (see
+/// [`crate::fix`]): only those that work stay on their findings.
 pub fn run(paths: &[PathBuf], opts: &Options) -> Result<Outcome, Fatal> {
     let jobs = discover(paths, opts)?;
-    let mut ctx = Ctx::new(opts.max_file_bytes);
-    ctx.overlay = opts.overlay.clone();
+    let mut out = run_jobs(jobs, opts)?;
+    crate::fix::verify(&mut out, opts.max_file_bytes);
+    Ok(out)
+}
+
+/// Lint these jobs (no verification of fixes).
+pub(crate) fn run_jobs(jobs: Vec<Job>, opts: &Options) -> Result<Outcome, Fatal> {
+    let ctx = Ctx::new(opts.max_file_bytes, opts.overlay.clone());
     let done = std::sync::atomic::AtomicUsize::new(0);
     let total = jobs.len();
     let show = opts.progress && total >= PROGRESS_FROM;
     let results: Vec<Result<RigResult, Fatal>> = jobs
         .par_iter()
-        .map(|job| {
-            let r = lint_rig(&ctx, job, opts.keep_rigs);
+        .enumerate()
+        .map(|(i, job)| {
+            let r = lint_rig(&ctx, job, opts.keep_rigs).map(|mut r| {
+                r.job = i;
+                r
+            });
             let n = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
             if show && (n.is_multiple_of(25) || n == total) {
                 eprint!("\rfoldcheck: {n}/{total} files");
@@ -185,7 +205,28 @@ pub fn run(paths: &[PathBuf], opts: &Options) -> Result<Outcome, Fatal> {
         eprint!("\r{}\r", " ".repeat(40));
     }
     let results = results.into_iter().collect::<Result<Vec<_>, _>>()?;
-    Ok(finish(ctx, results, jobs.len()))
+    let n = jobs.len();
+    Ok(finish(ctx, results, n, jobs))
+}
+
+/// The rig files under `root` that include `catalog`, as jobs with `like`'s root and
+/// settings (for verifying an edit to a shared catalog in every rig that uses it).
+pub(crate) fn dependent_jobs(like: &Job, catalog: &Path) -> Vec<Job> {
+    dependents(&like.root, catalog)
+        .into_iter()
+        .map(|p| Job {
+            display: display(&relative_to_cwd(&p)),
+            path: p,
+            root: like.root.clone(),
+            settings: like.settings.clone(),
+            role: Role::Rig,
+        })
+        .collect()
+}
+
+/// The file a job lints, as the same file is named in [`Overlay`] keys.
+pub(crate) fn job_file(job: &Job) -> PathBuf {
+    identity(&job.path)
 }
 
 /// Lint one rig held in memory as if it were the file `name`: exactly the stages a rig
@@ -205,26 +246,39 @@ pub fn lint_text(name: &str, text: &str) -> (Sources, Vec<Finding>) {
         settings: Arc::new(Settings::default()),
         role: Role::Rig,
     };
-    let ctx = Ctx::new(DEFAULT_MAX_FILE_BYTES);
-    let file = ctx.sources.lock().expect("no thread panicked").add(
-        &job.path,
-        job.display.clone(),
-        text.to_string(),
-    );
-    let loaded = load_added(&ctx, file, Role::Rig);
-    let result = lint_loaded(&ctx, &job, false, loaded);
-    let out = finish(ctx, vec![result], 1);
-    (out.sources, out.findings)
+    let mut overlay = Overlay::new();
+    overlay.insert(absolute(&path), text.to_string());
+    let opts = Options {
+        overlay: Some(Arc::new(overlay)),
+        ..Options::default()
+    };
+    match run_jobs(vec![job], &opts) {
+        Ok(mut out) => {
+            crate::fix::verify(&mut out, DEFAULT_MAX_FILE_BYTES);
+            (out.sources, out.findings)
+        }
+        // Only reading can fail, and the text comes from memory.
+        Err(e) => unreachable!("an in-memory rig is always readable: {e}"),
+    }
 }
 
 /// Gather the rigs' findings, apply settings levels and suppressions, and sort.
-fn finish(ctx: Ctx, results: Vec<RigResult>, files: usize) -> Outcome {
+fn finish(ctx: Ctx, results: Vec<RigResult>, files: usize, jobs: Vec<Job>) -> Outcome {
     let mut findings = Vec::new();
     let mut suppressions: Vec<Suppression> = Vec::new();
     let mut channels = 0;
     let mut rigs = Vec::new();
     let mut file_settings: HashMap<FileId, Arc<Settings>> = HashMap::new();
-    for (loaded, f, n, rig, settings) in results {
+    for r in results {
+        let RigResult {
+            loaded,
+            findings: f,
+            channels: n,
+            rig,
+            settings,
+            includes,
+            job,
+        } = r;
         file_settings.insert(loaded.file, settings);
         findings.extend(loaded.findings);
         findings.extend(f);
@@ -233,6 +287,8 @@ fn finish(ctx: Ctx, results: Vec<RigResult>, files: usize) -> Outcome {
         rigs.push(RigOutcome {
             file: loaded.file,
             rig,
+            includes,
+            job,
         });
     }
     // Catalog findings, once each.
@@ -276,6 +332,8 @@ fn finish(ctx: Ctx, results: Vec<RigResult>, files: usize) -> Outcome {
         channels,
         findings,
         rigs,
+        jobs,
+        overlay: ctx.overlay,
     }
 }
 
@@ -711,7 +769,16 @@ fn load_text(file: FileId, text: &str, lines: &LineIndex, role: Role) -> Loaded 
     }
 }
 
-type RigResult = (Loaded, Vec<Finding>, usize, Option<Rig>, Arc<Settings>);
+/// One rig's result before settings and suppressions.
+struct RigResult {
+    loaded: Loaded,
+    findings: Vec<Finding>,
+    channels: usize,
+    rig: Option<Rig>,
+    settings: Arc<Settings>,
+    includes: Vec<FileId>,
+    job: usize,
+}
 
 /// Read and lint one rig file.
 fn lint_rig(ctx: &Ctx, job: &Job, keep: bool) -> Result<RigResult, Fatal> {
@@ -723,15 +790,24 @@ fn lint_rig(ctx: &Ctx, job: &Job, keep: bool) -> Result<RigResult, Fatal> {
 /// Lint a loaded rig: includes, resolution and the rules.
 fn lint_loaded(ctx: &Ctx, job: &Job, keep: bool, mut loaded: Loaded) -> RigResult {
     let mut out = Vec::new();
+    let result = |loaded, out, channels, rig, includes| RigResult {
+        loaded,
+        findings: out,
+        channels,
+        rig,
+        settings: job.settings.clone(),
+        includes,
+        job: 0,
+    };
     let Some(doc) = loaded.doc.take() else {
-        return (loaded, out, 0, None, job.settings.clone());
+        return result(loaded, out, 0, None, Vec::new());
     };
     if job.role == Role::Catalog {
         // A catalog on its own: names and the clock graph, no physics.
         let (_, resolve_findings) = resolve::resolve(&[&doc], &job.settings.thresholds);
         out.extend(resolve_findings);
         loaded.doc = Some(doc);
-        return (loaded, out, 0, None, job.settings.clone());
+        return result(loaded, out, 0, None, Vec::new());
     }
     let channels = doc.channels.len();
     // Includes, depth first, each catalog once per rig.
@@ -764,13 +840,12 @@ fn lint_loaded(ctx: &Ctx, job: &Job, keep: bool, mut loaded: Loaded) -> RigResul
             .expect("no thread panicked")
             .release_text(loaded.file);
     }
-    (
-        loaded,
-        out,
-        channels,
-        keep.then_some(rig),
-        job.settings.clone(),
-    )
+    let includes = catalogs
+        .iter()
+        .map(|c| c.file)
+        .filter(|f| *f != FileId::MAX)
+        .collect();
+    result(loaded, out, channels, keep.then_some(rig), includes)
 }
 
 fn canonical_or_self(p: &Path) -> PathBuf {

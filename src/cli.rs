@@ -24,6 +24,15 @@ pub enum CheckFormat {
     Sarif,
 }
 
+/// Output formats of `fix`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum FixFormat {
+    /// What was fixed, what is left (with `--dry-run`: a unified diff).
+    Human,
+    /// JSON: the fixes, conflicts, skipped catalog fixes, changed files and what is left.
+    Json,
+}
+
 /// Output formats of `diff`.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
 pub enum DiffFormat {
@@ -88,6 +97,33 @@ pub enum Command {
         /// Refuse files larger than this many bytes (default 64 MiB).
         #[arg(long, value_name = "BYTES")]
         max_file_size: Option<u64>,
+    },
+    /// Apply every verified fix, then lint again and show what is left.
+    Fix {
+        /// Rig files and directories, as for `check` (default: the current directory).
+        paths: Vec<PathBuf>,
+        /// Only fix findings of this rule (may be given more than once).
+        #[arg(long = "rule", value_name = "RULE")]
+        rules: Vec<String>,
+        /// Print the changes as a unified diff instead of writing them.
+        #[arg(long)]
+        dry_run: bool,
+        /// Also apply fixes that edit a shared catalog (they reach every rig that
+        /// includes it).
+        #[arg(long)]
+        include_catalogs: bool,
+        /// Output format.
+        #[arg(long, value_enum, default_value_t = FixFormat::Human)]
+        format: FixFormat,
+        /// Lowest severity left after fixing that makes the exit status 1.
+        #[arg(long, value_enum, default_value_t = FailOn::Error)]
+        fail_on: FailOn,
+        /// Colour the human format.
+        #[arg(long, value_enum, default_value_t = ColorChoice::Auto)]
+        color: ColorChoice,
+        /// Use this settings file instead of discovering foldcheck.toml.
+        #[arg(long, value_name = "FILE")]
+        settings: Option<PathBuf>,
     },
     /// Compare two files or two directories, or the working tree with a git revision.
     Diff {

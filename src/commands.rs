@@ -4,6 +4,7 @@
 use crate::cli::{CheckFormat, ColorChoice, Command, FailOn};
 use foldcheck::campaign::{self, Fatal, Options};
 use foldcheck::finding::Severity;
+use foldcheck::fix::apply as fix;
 use foldcheck::report::{self, Counts, human, json};
 use foldcheck::rules::RULES;
 use std::io::IsTerminal;
@@ -30,7 +31,6 @@ pub fn run(command: Command) -> Outcome {
             let opts = Options {
                 settings,
                 max_file_bytes: max_file_size.unwrap_or(campaign::DEFAULT_MAX_FILE_BYTES),
-                keep_rigs: false,
                 progress: std::io::stderr().is_terminal(),
                 ..Options::default()
             };
@@ -62,6 +62,126 @@ pub fn run(command: Command) -> Outcome {
         Command::Lsp => foldcheck::lsp::run_stdio()
             .map(|()| (String::new(), 0))
             .map_err(|e| format!("foldcheck lsp: {e}")),
+        Command::Fix {
+            paths,
+            rules,
+            dry_run,
+            include_catalogs,
+            format,
+            fail_on,
+            color,
+            settings,
+        } => {
+            for r in &rules {
+                if foldcheck::rules::rule(r).is_none() {
+                    return Err(format!("foldcheck: no rule named `{r}`"));
+                }
+            }
+            let paths = if paths.is_empty() {
+                vec![".".into()]
+            } else {
+                paths
+            };
+            let opts = Options {
+                settings,
+                ..Options::default()
+            };
+            let choice = fix::Choice {
+                rules,
+                include_catalogs,
+            };
+            let plan = fix::plan(&paths, &opts, &choice).map_err(|e| fatal(&e))?;
+            let (written, refused) = if dry_run {
+                (Vec::new(), Vec::new())
+            } else {
+                fix::write(&plan)
+            };
+            for r in &refused {
+                eprintln!("foldcheck: {r}");
+            }
+            // Lint the result: the files as written, or (dry run) the planned texts.
+            let after_opts = if dry_run {
+                let overlay: campaign::Overlay = plan
+                    .changes
+                    .iter()
+                    .map(|c| (c.target.clone(), c.after.clone()))
+                    .collect();
+                Options {
+                    overlay: Some(std::sync::Arc::new(overlay)),
+                    ..opts.clone()
+                }
+            } else {
+                opts.clone()
+            };
+            let start = Instant::now();
+            let out = campaign::run(&paths, &after_opts).map_err(|e| fatal(&e))?;
+            let code = u8::from(Counts::of(&out.findings).reaches(severity(fail_on)));
+            let text = match format {
+                crate::cli::FixFormat::Json => {
+                    let report: serde_json::Value = serde_json::from_str(&json::render(
+                        &out.sources,
+                        &out.findings,
+                        out.files,
+                        out.channels,
+                    ))
+                    .expect("our own JSON parses");
+                    let v = serde_json::json!({
+                        "version": 1,
+                        "dry_run": dry_run,
+                        "fixes": plan.applied.iter().map(fix::Reported::to_json).collect::<Vec<_>>(),
+                        "conflicts": plan.conflicts.iter().map(|c| c.iter().map(fix::Reported::to_json).collect::<Vec<_>>()).collect::<Vec<_>>(),
+                        "skipped_catalog_fixes": plan.skipped_catalog.iter().map(fix::Reported::to_json).collect::<Vec<_>>(),
+                        "files": plan.changes.iter().map(|c| serde_json::json!({
+                            "file": c.display,
+                            "written": written.contains(&c.display),
+                            "refused": c.refused,
+                        })).collect::<Vec<_>>(),
+                        "remaining": report["findings"],
+                        "summary": report["summary"],
+                    });
+                    let mut s = serde_json::to_string_pretty(&v).expect("JSON values serialise");
+                    s.push('\n');
+                    s
+                }
+                crate::cli::FixFormat::Human => {
+                    let mut s = String::new();
+                    if dry_run {
+                        s.push_str(&fix::unified_diff(&plan));
+                    } else {
+                        for r in &plan.applied {
+                            s.push_str(&format!("fixed {}\n", r.line_text()));
+                        }
+                    }
+                    for c in &plan.conflicts {
+                        s.push_str("not fixed: these fixes edit the same text differently:\n");
+                        for r in c {
+                            s.push_str(&format!("  {}\n", r.line_text()));
+                        }
+                    }
+                    for r in &plan.skipped_catalog {
+                        s.push_str(&format!(
+                            "not fixed (edits a shared catalog; pass --include-catalogs): {}\n",
+                            r.line_text()
+                        ));
+                    }
+                    if dry_run {
+                        eprint!("{}", summary_line(&plan, true));
+                    } else {
+                        s.push_str(&summary_line(&plan, false));
+                        s.push_str(&human::render(
+                            &out.sources,
+                            &out.findings,
+                            out.files,
+                            out.channels,
+                            start.elapsed(),
+                            color_for(color),
+                        ));
+                    }
+                    s
+                }
+            };
+            Ok((text, code))
+        }
         Command::Rules { rule } => match rule {
             None => {
                 let mut s = String::new();
@@ -125,6 +245,22 @@ pub fn run(command: Command) -> Outcome {
                 .map_err(|e| format!("foldcheck: {e}"))
         }
     }
+}
+
+/// "3 fixes applied in 2 files" (or "would be applied").
+fn summary_line(plan: &fix::Plan, dry_run: bool) -> String {
+    let n = plan.applied.len();
+    let files = plan.changes.iter().filter(|c| c.refused.is_none()).count();
+    format!(
+        "{n} fix{} {} in {files} file{}\n",
+        if n == 1 { "" } else { "es" },
+        if dry_run {
+            "would be applied"
+        } else {
+            "applied"
+        },
+        if files == 1 { "" } else { "s" }
+    )
 }
 
 fn severity(f: FailOn) -> Severity {

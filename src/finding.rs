@@ -120,6 +120,79 @@ pub struct Edit {
     pub replacement: String,
 }
 
+impl Edit {
+    /// The edit that turns the scalar at `span` of `text` from `old` into `new`,
+    /// touching only the bytes of the value: the whole span for a plain scalar, the
+    /// inside of the quotes for a quoted one (when the quoted text holds no escapes).
+    /// `None` when the source does not spell `old` in one of these ways, or when `new`
+    /// would need quoting or escaping where it goes.
+    pub fn replace_value(text: &str, span: Span, old: &str, new: &str) -> Option<Edit> {
+        Edit::replace_within(text, span, old, 0..old.len(), new)
+    }
+
+    /// Like [`Edit::replace_value`], but replaces only the bytes `part` of the value
+    /// `old` (e.g. the unit of `3 KHz`).
+    pub fn replace_within(
+        text: &str,
+        span: Span,
+        old: &str,
+        part: std::ops::Range<usize>,
+        new: &str,
+    ) -> Option<Edit> {
+        let written = text.get(span.start as usize..span.end as usize)?;
+        let offset = if written == old && plain_safe(new) {
+            0
+        } else if written.len() == old.len() + 2
+            && (written.starts_with('"') && written.ends_with('"')
+                || written.starts_with('\'') && written.ends_with('\''))
+            && &written[1..written.len() - 1] == old
+            && !old.contains(['\\', '"', '\''])
+            && !new.contains(['\\', '"', '\'', '\n', '\r'])
+        {
+            1
+        } else {
+            return None;
+        };
+        old.get(part.clone())?;
+        let start = span.start as usize + offset + part.start;
+        let end = span.start as usize + offset + part.end;
+        Some(Edit {
+            span: Span::new(span.file, start, end),
+            replacement: new.to_string(),
+        })
+    }
+}
+
+impl Edit {
+    /// Like [`Edit::replace_value`] when the source text is not at hand: a span exactly
+    /// as long as `old` holds it plain; two bytes longer, inside quotes (a quoted value
+    /// with escapes is longer still and gets no edit). Verification re-reads the edited
+    /// text, so a wrong guess is dropped, never written.
+    pub fn replace_spanned(span: Span, old: &str, new: &str) -> Option<Edit> {
+        let inner = if span.len() == old.len() && plain_safe(new) {
+            span
+        } else if span.len() == old.len() + 2 && !new.contains(['\\', '"', '\'', '\n', '\r']) {
+            Span::new(span.file, span.start as usize + 1, span.end as usize - 1)
+        } else {
+            return None;
+        };
+        Some(Edit {
+            span: inner,
+            replacement: new.to_string(),
+        })
+    }
+}
+
+/// Whether `s` can stand as a plain YAML scalar inside a block or flow mapping
+/// unchanged (a conservative test: letters, digits, spaces inside, `.-+/_`).
+fn plain_safe(s: &str) -> bool {
+    !s.is_empty()
+        && !s.starts_with(' ')
+        && !s.ends_with(' ')
+        && s.chars()
+            .all(|c| c.is_alphanumeric() || matches!(c, ' ' | '.' | '-' | '+' | '/' | '_' | 'µ'))
+}
+
 /// A change that removes a finding: byte-exact edits and what they do in words.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Fix {

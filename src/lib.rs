@@ -9,6 +9,7 @@
 pub mod campaign;
 pub mod diff;
 pub mod finding;
+pub mod fix;
 pub mod inspect;
 pub mod lsp;
 pub mod model;

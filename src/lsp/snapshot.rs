@@ -103,16 +103,7 @@ pub fn analyse(path: &Path, overlay: Arc<Overlay>) -> Snapshot {
     };
     let (outcome, fatal) = match campaign::run(&[path.to_path_buf()], &opts) {
         Ok(o) => (o, None),
-        Err(e) => (
-            Outcome {
-                sources: Default::default(),
-                findings: Vec::new(),
-                files: 0,
-                channels: 0,
-                rigs: Vec::new(),
-            },
-            Some(e.to_string()),
-        ),
+        Err(e) => (Outcome::default(), Some(e.to_string())),
     };
     let key = file_key(path);
     let file = outcome

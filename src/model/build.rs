@@ -7,7 +7,7 @@
 
 use super::quantity::{self, Exact, Kind};
 use super::*;
-use crate::finding::{Finding, Label, Severity};
+use crate::finding::{Edit, Finding, Fix, Label, Severity};
 use crate::source::yaml::{Node, NodeKind};
 use crate::source::{FileId, Span};
 
@@ -185,15 +185,36 @@ impl<'a> Builder<'a> {
                     Kind::DataRate => "expected a data rate",
                     Kind::Duration => "expected a duration",
                 };
-                self.findings.push(
-                    Finding::new(
-                        "quantity",
-                        Severity::Error,
-                        Label::new(node.span, label),
-                        e.message,
-                    )
-                    .with_help_opt(e.help),
-                );
+                let mut f = Finding::new(
+                    "quantity",
+                    Severity::Error,
+                    Label::new(node.span, label),
+                    e.message,
+                )
+                .with_help_opt(e.help);
+                // A unit in the wrong case has one right spelling: propose that edit
+                // (kept only if verification confirms it). A plain or quoted string
+                // is edited in place; a number's text never holds a unit.
+                if let (Some((range, right)), NodeKind::Str(_)) = (e.unit_fix, &node.kind) {
+                    let wrong = &text[range.clone()];
+                    if let Some(edit) =
+                        Edit::replace_within(self.text, node.span, &text, range, right)
+                    {
+                        f.help_without_fix = Some(format!(
+                            "units are case-sensitive: use one of {}",
+                            kind.units()
+                                .iter()
+                                .map(|u| u.0)
+                                .collect::<Vec<_>>()
+                                .join(" ")
+                        ));
+                        f.fix = Some(Fix {
+                            description: format!("write the unit `{wrong}` as `{right}`"),
+                            edits: vec![edit],
+                        });
+                    }
+                }
+                self.findings.push(f);
                 None
             }
         }

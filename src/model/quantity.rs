@@ -134,11 +134,18 @@ pub struct QuantityError {
     pub message: String,
     /// What to write instead.
     pub help: Option<String>,
+    /// A certain repair: the byte range of the unit in the text given to [`parse`] and
+    /// the spelling to put there (a unit in the wrong case: `KHz` → `kHz`).
+    pub unit_fix: Option<(std::ops::Range<usize>, &'static str)>,
 }
 
 impl QuantityError {
     fn new(message: String, help: Option<String>) -> Self {
-        QuantityError { message, help }
+        QuantityError {
+            message,
+            help,
+            unit_fix: None,
+        }
     }
 }
 
@@ -252,13 +259,18 @@ pub fn parse(text: &str, kind: Kind) -> Result<Exact, QuantityError> {
     }
     // A near miss: the same letters in another case.
     if let Some((right, _, _)) = kind.units().iter().find(|u| u.0.eq_ignore_ascii_case(unit)) {
-        return Err(QuantityError::new(
+        // Where the unit lies in `text`: after the leading blanks and the number.
+        let lead = text.len() - text.trim_start().len();
+        let at = lead + split + (t[split..].len() - t[split..].trim_start().len());
+        let mut e = QuantityError::new(
             format!("unknown unit `{unit_shown}` in `{shown}`; units are case-sensitive"),
             Some(format!(
                 "write `{}{right}`",
                 &t[..t.len() - t[split..].trim_start().len()]
             )),
-        ));
+        );
+        e.unit_fix = Some((at..at + unit.len(), right));
+        return Err(e);
     }
     if let Some(other) = Kind::ALL
         .iter()

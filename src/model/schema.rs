@@ -1,6 +1,6 @@
 //! Shape checking against `schemas/rig.schema.json`, with findings at exact spans.
 
-use crate::finding::{Finding, Label, Severity};
+use crate::finding::{Edit, Finding, Fix, Label, Severity};
 use crate::source::Span;
 use crate::source::yaml::{Node, NodeKind};
 use jsonschema::error::ValidationErrorKind;
@@ -100,6 +100,39 @@ pub fn check(root: &Node, text: &str) -> Vec<Finding> {
                     format!("`{name}` is not allowed in {parent}"),
                 )
                 .with_help(false_schema_help(&path))
+            }
+            ValidationErrorKind::Enum { options } => {
+                let mut f = Finding::new(
+                    "schema",
+                    Severity::Error,
+                    Label::new(node.span, "here"),
+                    format!("{what}: {}", plain(&error.to_string())),
+                );
+                // The same word in another case has one right spelling: propose it
+                // (kept only if verification confirms it).
+                let allowed: Vec<&str> = options
+                    .as_array()
+                    .map(|a| a.iter().filter_map(Value::as_str).collect())
+                    .unwrap_or_default();
+                if let NodeKind::Str(written) = &node.kind {
+                    let same: Vec<&&str> = allowed
+                        .iter()
+                        .filter(|o| o.eq_ignore_ascii_case(written))
+                        .collect();
+                    if let [right] = same[..]
+                        && let Some(edit) = Edit::replace_value(text, node.span, written, right)
+                    {
+                        f = f.with_fix_and_help(
+                            Fix {
+                                description: format!("write `{written}` as `{right}`"),
+                                edits: vec![edit],
+                            },
+                            format!("write `{right}` (values are case-sensitive)"),
+                            Some(format!("use one of: {}", allowed.join(", "))),
+                        );
+                    }
+                }
+                f
             }
             ValidationErrorKind::Type { .. } => Finding::new(
                 "schema",

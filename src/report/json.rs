@@ -1,7 +1,7 @@
 //! JSON output, version 1 (SPEC §7).
 
 use super::Counts;
-use crate::finding::Finding;
+use crate::finding::{Finding, Fix};
 use crate::source::Sources;
 use serde_json::{Map, Value, json};
 
@@ -31,7 +31,44 @@ pub fn finding(sources: &Sources, f: &Finding) -> Value {
     if let Some(reason) = &f.suppressed {
         o.insert("suppressed".into(), json!(reason));
     }
+    if let Some(fix) = &f.fix {
+        o.insert(
+            "fix".into(),
+            json!({ "description": fix.description, "edits": fix_edits(sources, fix) }),
+        );
+    }
     Value::Object(o)
+}
+
+/// A fix's edits as JSON (docs/output.md): `file`, byte offsets `start` and `end` (end
+/// exclusive), 1-based `line`, `column`, `end_line`, `end_column` (columns count
+/// characters) and the `replacement` text; in file and offset order.
+pub fn fix_edits(sources: &Sources, fix: &Fix) -> Vec<Value> {
+    let mut edits: Vec<_> = fix.edits.iter().collect();
+    edits.sort_by(|a, b| {
+        let (fa, fb) = (sources.get(a.span.file), sources.get(b.span.file));
+        fa.display
+            .cmp(&fb.display)
+            .then(a.span.start.cmp(&b.span.start))
+    });
+    edits
+        .into_iter()
+        .map(|e| {
+            let file = sources.get(e.span.file);
+            let (line, column) = file.line_col(e.span.start);
+            let (end_line, end_column) = file.line_col(e.span.end);
+            json!({
+                "file": file.display,
+                "start": e.span.start,
+                "end": e.span.end,
+                "line": line,
+                "column": column,
+                "end_line": end_line,
+                "end_column": end_column,
+                "replacement": e.replacement,
+            })
+        })
+        .collect()
 }
 
 /// The whole report.

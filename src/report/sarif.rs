@@ -16,6 +16,9 @@
 //!   follows as a second sentence (`"<message>. <help>."`). The primary label's text is
 //!   `locations[0].message`, each secondary label a `relatedLocations` entry with
 //!   `id` 0, 1, … in label order.
+//! - A verified fix is the result's one `fixes` entry: an `artifactChange` per file,
+//!   each edit a `replacement` with a `deletedRegion` (byte offset and length, plus the
+//!   line and column region) and `insertedContent`.
 //! - A suppressed finding is listed with `suppressions: [{kind: "inSource",
 //!   justification: <reason>}]`.
 //! - `properties` holds `channel` and the machine-readable `values` (SPEC §5) when
@@ -129,6 +132,9 @@ fn result(sources: &Sources, f: &Finding) -> Value {
             json!([{ "kind": "inSource", "justification": reason }]),
         );
     }
+    if let Some(fix) = &f.fix {
+        o.insert("fixes".into(), json!([sarif_fix(sources, fix)]));
+    }
     let mut props = Map::new();
     if let Some(c) = &f.channel {
         props.insert("channel".into(), json!(c));
@@ -140,6 +146,45 @@ fn result(sources: &Sources, f: &Finding) -> Value {
         o.insert("properties".into(), Value::Object(props));
     }
     Value::Object(o)
+}
+
+/// A verified fix as a SARIF `fix`: one `artifactChange` per file, each edit a
+/// `replacement` whose `deletedRegion` is given by byte offset and length (with the
+/// same line and column region as results) and whose `insertedContent` is the new text.
+fn sarif_fix(sources: &Sources, fix: &crate::finding::Fix) -> Value {
+    let mut by_file: Vec<(crate::source::FileId, Vec<Value>)> = Vec::new();
+    let mut edits: Vec<_> = fix.edits.iter().collect();
+    edits.sort_by_key(|e| (e.span.file, e.span.start));
+    for e in edits {
+        let file = sources.get(e.span.file);
+        let (start_line, start_column) = file.line_col(e.span.start);
+        let (end_line, end_column) = file.line_col(e.span.end);
+        let replacement = json!({
+            "deletedRegion": {
+                "byteOffset": e.span.start,
+                "byteLength": e.span.len(),
+                "startLine": start_line,
+                "startColumn": start_column,
+                "endLine": end_line,
+                "endColumn": end_column,
+            },
+            "insertedContent": { "text": e.replacement },
+        });
+        match by_file.last_mut() {
+            Some((f, list)) if *f == e.span.file => list.push(replacement),
+            _ => by_file.push((e.span.file, vec![replacement])),
+        }
+    }
+    json!({
+        "description": { "text": fix.description },
+        "artifactChanges": by_file
+            .into_iter()
+            .map(|(f, replacements)| json!({
+                "artifactLocation": { "uri": uri(&sources.get(f).display) },
+                "replacements": replacements,
+            }))
+            .collect::<Vec<_>>(),
+    })
 }
 
 /// The message, with the help as a second sentence.

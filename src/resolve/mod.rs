@@ -6,7 +6,7 @@
 pub mod chain;
 mod clocks;
 
-use crate::finding::{Finding, Label, Severity};
+use crate::finding::{Edit, Finding, Fix, Label, Severity};
 use crate::model::quantity::{Exact, format_hz, to_f64};
 use crate::model::*;
 use crate::source::{FileId, Span};
@@ -228,6 +228,24 @@ pub fn closest<'a>(name: &str, candidates: impl Iterator<Item = &'a str>) -> Opt
         .map(|(_, c)| c)
 }
 
+/// The closest name when no other candidate is as close (for a fix, which must be
+/// certain; "did you mean" may still name one of several equally close names).
+pub fn closest_unambiguous<'a>(
+    name: &str,
+    candidates: impl Iterator<Item = &'a str>,
+) -> Option<&'a str> {
+    let mut scored: Vec<(f64, &str)> = candidates
+        .map(|c| (strsim::jaro_winkler(name, c), c))
+        .filter(|(score, _)| *score >= 0.75)
+        .collect();
+    scored.sort_by(|a, b| b.0.total_cmp(&a.0).then_with(|| a.1.cmp(b.1)));
+    match scored[..] {
+        [(_, only)] => Some(only),
+        [(a, best), (b, _), ..] if a > b => Some(best),
+        _ => None,
+    }
+}
+
 struct Names<'a> {
     section: &'static str,
     seen: HashMap<&'a str, (usize, Span)>,
@@ -283,6 +301,30 @@ impl<'a> Names<'a> {
                 self.section, r.value
             ),
         );
+        let generic = if self.seen.is_empty() {
+            None
+        } else {
+            let mut known: Vec<&str> = self.seen.keys().copied().collect();
+            known.sort_unstable();
+            known.truncate(8);
+            Some(format!("defined {}s: {}", self.section, known.join(", ")))
+        };
+        // An unambiguous closest name (strictly closer than every other) is proposed as
+        // a fix; verification keeps it only if the rig is then clean of new problems.
+        if let Some(best) = closest_unambiguous(&r.value, self.seen.keys().copied())
+            && let Some(edit) = Edit::replace_spanned(r.span, &r.value, best)
+        {
+            f = f.with_fix_and_help(
+                Fix {
+                    description: format!("name the {} `{best}`", self.section),
+                    edits: vec![edit],
+                },
+                format!("did you mean `{best}`?"),
+                generic,
+            );
+            out.push(f);
+            return None;
+        }
         f.help = Some(match closest(&r.value, self.seen.keys().copied()) {
             Some(best) => format!("did you mean `{best}`?"),
             None if self.seen.is_empty() => {

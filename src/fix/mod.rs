@@ -1,0 +1,434 @@
+//! Fixes: verifying the edits a finding proposes before anything shows them, and
+//! applying verified fixes to the files (`foldcheck fix`, see [`apply`]).
+//!
+//! A rule (or an earlier stage) may attach a candidate [`Fix`] to a finding. After the
+//! campaign's findings are known, [`verify`] applies each distinct set of edits to the
+//! texts in memory, lints again only the rigs that read an edited file (for a shared
+//! catalog, every rig under the campaign root that includes it), and keeps the fix only
+//! if this finding is gone and nothing at `warning` or above was added. Findings that
+//! share one edit set (one divider fixing three channels) are verified once. A dropped
+//! fix takes its help line with it ([`Finding::drop_fix`]): the help never proposes a
+//! change that fails this check.
+
+pub mod apply;
+
+use crate::campaign::{self, Job, Options, Outcome, Overlay, absolute};
+use crate::finding::{Finding, Fix, Severity};
+use crate::resolve::Rig;
+use crate::source::{FileId, Sources, Span};
+use rayon::prelude::*;
+use std::collections::{BTreeMap, HashMap, HashSet};
+use std::path::PathBuf;
+use std::sync::{Arc, Mutex};
+
+/// One edit named by the file's absolute path, comparable across runs (file ids are
+/// not).
+#[derive(Clone, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub struct PathEdit {
+    /// The file.
+    pub path: PathBuf,
+    /// First byte replaced.
+    pub start: usize,
+    /// One past the last byte replaced.
+    pub end: usize,
+    /// The new text.
+    pub replacement: String,
+}
+
+/// A fix's edits by path, sorted and without repeats; `None` when they cannot be
+/// applied to the texts at hand (out of range, not on character boundaries,
+/// overlapping, or in a file whose text is not kept).
+pub fn edit_key(sources: &Sources, fix: &Fix) -> Option<Vec<PathEdit>> {
+    let mut key = Vec::with_capacity(fix.edits.len());
+    for e in &fix.edits {
+        if e.span.file as usize >= sources.len() {
+            return None;
+        }
+        let file = sources.get(e.span.file);
+        let (start, end) = (e.span.start as usize, e.span.end as usize);
+        if end > file.text.len()
+            || !file.text.is_char_boundary(start)
+            || !file.text.is_char_boundary(end)
+        {
+            return None;
+        }
+        key.push(PathEdit {
+            path: absolute(&file.path),
+            start,
+            end,
+            replacement: e.replacement.clone(),
+        });
+    }
+    key.sort();
+    key.dedup();
+    for w in key.windows(2) {
+        if w[0].path == w[1].path && w[1].start < w[0].end {
+            return None;
+        }
+    }
+    if key.is_empty() { None } else { Some(key) }
+}
+
+/// Apply sorted, non-overlapping edits of one file to its text.
+pub fn apply_to_text(text: &str, edits: &[&PathEdit]) -> String {
+    let mut out = String::with_capacity(text.len());
+    let mut at = 0;
+    for e in edits {
+        out.push_str(&text[at..e.start]);
+        out.push_str(&e.replacement);
+        at = e.end;
+    }
+    out.push_str(&text[at..]);
+    out
+}
+
+/// Where byte offsets move when edits are applied: per file, each edit's start, end
+/// and new length.
+#[derive(Default)]
+struct Shift(HashMap<PathBuf, Vec<(usize, usize, usize)>>);
+
+impl Shift {
+    fn of(key: &[PathEdit]) -> Shift {
+        let mut m: HashMap<PathBuf, Vec<(usize, usize, usize)>> = HashMap::new();
+        for e in key {
+            m.entry(e.path.clone())
+                .or_default()
+                .push((e.start, e.end, e.replacement.len()));
+        }
+        Shift(m)
+    }
+
+    /// Where offset `o` of `path` lies after the edits (inside an edit: its start).
+    fn map(&self, path: &PathBuf, o: usize) -> usize {
+        let Some(edits) = self.0.get(path) else {
+            return o;
+        };
+        let mut delta: isize = 0;
+        for &(s, e, n) in edits {
+            if o < s {
+                break;
+            }
+            if s < o && o < e {
+                return (s as isize + delta) as usize;
+            }
+            if e <= o {
+                delta += n as isize - (e - s) as isize;
+            }
+        }
+        (o as isize + delta) as usize
+    }
+}
+
+/// What makes two findings of two runs the same finding: the fingerprint when there is
+/// one, else the rule, the file and the subject (or channel, or place).
+#[derive(Clone, Debug, PartialEq, Eq, Hash)]
+enum Identity {
+    Fingerprint(String),
+    Place(&'static str, PathBuf, String),
+}
+
+fn identity(sources: &Sources, f: &Finding, shift: Option<&Shift>) -> Identity {
+    if let Some(fp) = &f.fingerprint {
+        return Identity::Fingerprint(fp.clone());
+    }
+    let path = absolute(&sources.get(f.primary.span.file).path);
+    let what = match (&f.subject, &f.channel) {
+        (Some(s), _) => format!("subject:{s}"),
+        (None, Some(c)) => format!("channel:{c}"),
+        (None, None) => {
+            let at = f.primary.span.start as usize;
+            let at = shift.map_or(at, |s| s.map(&path, at));
+            format!("at:{at}")
+        }
+    };
+    Identity::Place(f.rule, path, what)
+}
+
+/// The result of verifying one edit set.
+struct Verdict {
+    /// Findings (indexes into the outcome) whose fix stays.
+    keep: Vec<usize>,
+    /// For an edit to a shared catalog: channels and rigs it reaches.
+    reach: Option<(usize, usize)>,
+}
+
+/// Verify every proposed fix of `out` (see the module documentation): fixes that work
+/// stay, the others are dropped with their help.
+pub fn verify(out: &mut Outcome, max_file_bytes: u64) {
+    let mut groups: BTreeMap<Vec<PathEdit>, Vec<usize>> = BTreeMap::new();
+    let mut unusable = Vec::new();
+    for (i, f) in out.findings.iter().enumerate() {
+        if let Some(fix) = &f.fix {
+            match edit_key(&out.sources, fix) {
+                Some(k) => groups.entry(k).or_default().push(i),
+                None => unusable.push(i),
+            }
+        }
+    }
+    for i in unusable {
+        out.findings[i].drop_fix();
+    }
+    if groups.is_empty() {
+        return;
+    }
+    let ctx = VerifyCtx::new(out, max_file_bytes);
+    let groups: Vec<(Vec<PathEdit>, Vec<usize>)> = groups.into_iter().collect();
+    let verdicts: Vec<Verdict> = groups
+        .par_iter()
+        .map(|(key, idxs)| ctx.check(key, idxs))
+        .collect();
+    for ((_, idxs), v) in groups.iter().zip(verdicts) {
+        for &i in idxs {
+            if !v.keep.contains(&i) {
+                out.findings[i].drop_fix();
+            } else if let (Some((channels, rigs)), Some(fix)) = (v.reach, &mut out.findings[i].fix)
+            {
+                fix.description = format!(
+                    "{} (in a shared catalog: reaches {channels} channel{} in {rigs} rig{})",
+                    fix.description,
+                    if channels == 1 { "" } else { "s" },
+                    if rigs == 1 { "" } else { "s" },
+                );
+            }
+        }
+    }
+}
+
+/// Rigs outside the run that include an edited catalog, and their findings before the
+/// edit (identity, file, offset).
+type Extra = (Vec<Job>, Vec<(Identity, PathBuf, usize)>);
+
+/// What verification reads from the first run.
+struct VerifyCtx<'a> {
+    out: &'a Outcome,
+    max_file_bytes: u64,
+    /// Each rig's job and the absolute paths of the files it reads (itself first).
+    rig_files: Vec<(usize, Vec<PathBuf>)>,
+    /// Files that are some rig's own file.
+    rig_paths: HashSet<PathBuf>,
+    /// Texts by absolute path.
+    texts: HashMap<PathBuf, FileId>,
+    /// For each edited catalog: rigs under the root that include it but were not linted
+    /// in this run, with the identities of their findings before the edit.
+    extra: Mutex<HashMap<PathBuf, Arc<Extra>>>,
+}
+
+impl<'a> VerifyCtx<'a> {
+    fn new(out: &'a Outcome, max_file_bytes: u64) -> Self {
+        let path_of = |id: FileId| absolute(&out.sources.get(id).path);
+        let rig_files: Vec<(usize, Vec<PathBuf>)> = out
+            .rigs
+            .iter()
+            .map(|r| {
+                let mut files = vec![path_of(r.file)];
+                files.extend(r.includes.iter().map(|&f| path_of(f)));
+                (r.job, files)
+            })
+            .collect();
+        let rig_paths = rig_files.iter().map(|(_, f)| f[0].clone()).collect();
+        let texts = out
+            .sources
+            .iter()
+            .map(|f| (absolute(&f.path), f.id))
+            .collect();
+        VerifyCtx {
+            out,
+            max_file_bytes,
+            rig_files,
+            rig_paths,
+            texts,
+            extra: Mutex::new(HashMap::new()),
+        }
+    }
+
+    fn options(&self, overlay: Overlay, keep_rigs: bool) -> Options {
+        Options {
+            max_file_bytes: self.max_file_bytes,
+            keep_rigs,
+            overlay: Some(Arc::new(overlay)),
+            ..Options::default()
+        }
+    }
+
+    fn base_overlay(&self) -> Overlay {
+        self.out
+            .overlay
+            .as_ref()
+            .map(|o| (**o).clone())
+            .unwrap_or_default()
+    }
+
+    /// Rigs outside this run that include `catalog` (found under the root of `like`),
+    /// and their findings before any edit.
+    fn extra_for(&self, catalog: &PathBuf, like: &Job, linted: &HashSet<PathBuf>) -> Arc<Extra> {
+        if let Some(e) = self.extra.lock().expect("no thread panicked").get(catalog) {
+            return e.clone();
+        }
+        let jobs: Vec<Job> = campaign::dependent_jobs(like, catalog)
+            .into_iter()
+            .filter(|j| !linted.contains(&campaign::job_file(j)))
+            .collect();
+        let mut before = Vec::new();
+        if !jobs.is_empty()
+            && let Ok(o) =
+                campaign::run_jobs(jobs.clone(), &self.options(self.base_overlay(), false))
+        {
+            for f in &o.findings {
+                let p = absolute(&o.sources.get(f.primary.span.file).path);
+                before.push((
+                    identity(&o.sources, f, None),
+                    p,
+                    f.primary.span.start as usize,
+                ));
+            }
+        }
+        let e = Arc::new((jobs, before));
+        self.extra
+            .lock()
+            .expect("no thread panicked")
+            .insert(catalog.clone(), e.clone());
+        e
+    }
+
+    fn check(&self, key: &[PathEdit], idxs: &[usize]) -> Verdict {
+        let reject = Verdict {
+            keep: Vec::new(),
+            reach: None,
+        };
+        // The edited texts.
+        let mut overlay = self.base_overlay();
+        let mut edited: Vec<PathBuf> = key.iter().map(|e| e.path.clone()).collect();
+        edited.dedup();
+        for path in &edited {
+            let Some(&id) = self.texts.get(path) else {
+                return reject;
+            };
+            let text = &self.out.sources.get(id).text;
+            let edits: Vec<&PathEdit> = key.iter().filter(|e| &e.path == path).collect();
+            if edits.iter().any(|e| e.end > text.len()) {
+                return reject;
+            }
+            overlay.insert(path.clone(), apply_to_text(text, &edits));
+        }
+        // The rigs that read an edited file.
+        let affected: Vec<&(usize, Vec<PathBuf>)> = self
+            .rig_files
+            .iter()
+            .filter(|(_, files)| files.iter().any(|f| edited.contains(f)))
+            .collect();
+        let Some(first) = affected.first() else {
+            return reject;
+        };
+        let mut jobs: Vec<Job> = affected
+            .iter()
+            .map(|(j, _)| self.out.jobs[*j].clone())
+            .collect();
+        let files: HashSet<&PathBuf> = affected.iter().flat_map(|(_, f)| f.iter()).collect();
+        let catalogs: Vec<&PathBuf> = edited
+            .iter()
+            .filter(|p| !self.rig_paths.contains(*p))
+            .collect();
+        let shift = Shift::of(key);
+        let mut before: HashSet<Identity> = self
+            .out
+            .findings
+            .iter()
+            .filter(|f| files.contains(&absolute(&self.out.sources.get(f.primary.span.file).path)))
+            .map(|f| identity(&self.out.sources, f, Some(&shift)))
+            .collect();
+        if !catalogs.is_empty() {
+            let linted: HashSet<PathBuf> = self.out.jobs.iter().map(campaign::job_file).collect();
+            let like = &self.out.jobs[first.0];
+            for c in &catalogs {
+                let extra = self.extra_for(c, like, &linted);
+                for j in &extra.0 {
+                    if !jobs
+                        .iter()
+                        .any(|k| campaign::job_file(k) == campaign::job_file(j))
+                    {
+                        jobs.push(j.clone());
+                    }
+                }
+                for (id, path, at) in &extra.1 {
+                    before.insert(match id {
+                        Identity::Place(rule, p, w) if w.starts_with("at:") => {
+                            Identity::Place(rule, p.clone(), format!("at:{}", shift.map(path, *at)))
+                        }
+                        other => other.clone(),
+                    });
+                }
+            }
+        }
+        let Ok(after) = campaign::run_jobs(jobs, &self.options(overlay, !catalogs.is_empty()))
+        else {
+            return reject;
+        };
+        let after_ids: HashSet<Identity> = after
+            .findings
+            .iter()
+            .map(|f| identity(&after.sources, f, None))
+            .collect();
+        let added = after.findings.iter().any(|f| {
+            f.severity >= Severity::Warning
+                && f.suppressed.is_none()
+                && !before.contains(&identity(&after.sources, f, None))
+        });
+        if added {
+            return reject;
+        }
+        let keep: Vec<usize> = idxs
+            .iter()
+            .copied()
+            .filter(|&i| {
+                !after_ids.contains(&identity(
+                    &self.out.sources,
+                    &self.out.findings[i],
+                    Some(&shift),
+                ))
+            })
+            .collect();
+        let reach = (!catalogs.is_empty()).then(|| reach(&after, key, &shift));
+        Verdict { keep, reach }
+    }
+}
+
+/// Channels (and rigs) whose clock path, module or sensor is written where an edit
+/// lands, counted in the edited run.
+fn reach(after: &Outcome, key: &[PathEdit], shift: &Shift) -> (usize, usize) {
+    let spans: Vec<Span> = after
+        .sources
+        .iter()
+        .flat_map(|f| {
+            let path = absolute(&f.path);
+            key.iter().filter(move |e| e.path == path).map(move |e| {
+                let start = shift.map(&e.path, e.start);
+                Span::new(f.id, start, start + e.replacement.len())
+            })
+        })
+        .collect();
+    let hit = |item: Span| spans.iter().any(|s| item.contains(s));
+    let mut channels = 0;
+    let mut rigs = 0;
+    for r in &after.rigs {
+        let Some(rig) = &r.rig else { continue };
+        let n = rig
+            .channels
+            .iter()
+            .filter(|c| channel_reached(rig, c, &hit))
+            .count();
+        if n > 0 {
+            channels += n;
+            rigs += 1;
+        }
+    }
+    (channels, rigs)
+}
+
+fn channel_reached(rig: &Rig, c: &crate::resolve::RChannel, hit: &dyn Fn(Span) -> bool) -> bool {
+    c.clock.is_some_and(|k| {
+        rig.clock_path(k)
+            .iter()
+            .any(|&i| hit(rig.clocks[i].def.item))
+    }) || c.module.is_some_and(|m| hit(rig.modules[m].item))
+        || c.sensor.is_some_and(|s| hit(rig.sensors[s].item))
+}
