@@ -169,21 +169,17 @@ pub fn plan(paths: &[PathBuf], opts: &Options, choice: &Choice) -> Result<Plan, 
         // Conflicts: two sets editing overlapping bytes differently.
         let keys: Vec<&Vec<PathEdit>> = sets.keys().collect();
         let mut bad: BTreeSet<usize> = BTreeSet::new();
-        for a in 0..keys.len() {
-            for b in a + 1..keys.len() {
-                if conflict(keys[a], keys[b]) {
-                    bad.insert(a);
-                    bad.insert(b);
-                    let pair = [keys[a], keys[b]];
-                    if conflicted.insert((keys[a].clone(), keys[b].clone())) {
-                        plan.conflicts.push(
-                            pair.iter()
-                                .flat_map(|k| sets[*k].iter())
-                                .map(|&i| Reported::of(&out.sources, &out.findings[i]))
-                                .collect(),
-                        );
-                    }
-                }
+        for (a, b) in conflicting(&keys) {
+            bad.insert(a);
+            bad.insert(b);
+            if conflicted.insert((keys[a].clone(), keys[b].clone())) {
+                plan.conflicts.push(
+                    [keys[a], keys[b]]
+                        .iter()
+                        .flat_map(|k| sets[*k].iter())
+                        .map(|&i| Reported::of(&out.sources, &out.findings[i]))
+                        .collect(),
+                );
             }
         }
         let mut edits: BTreeSet<&PathEdit> = BTreeSet::new();
@@ -238,6 +234,21 @@ pub fn plan(paths: &[PathBuf], opts: &Options, choice: &Choice) -> Result<Plan, 
         });
     }
     Ok(plan)
+}
+
+/// The pairs of edit sets (by index) that touch the same bytes with different edits:
+/// neither of a pair is applied. Identical edits in two sets are no conflict (they are
+/// applied once).
+pub fn conflicting(keys: &[&Vec<PathEdit>]) -> Vec<(usize, usize)> {
+    let mut out = Vec::new();
+    for a in 0..keys.len() {
+        for b in a + 1..keys.len() {
+            if conflict(keys[a], keys[b]) {
+                out.push((a, b));
+            }
+        }
+    }
+    out
 }
 
 /// Whether two edit sets touch overlapping bytes with different edits.
@@ -351,4 +362,55 @@ pub fn unified_diff(plan: &Plan) -> String {
         out.push_str(&text);
     }
     out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn edit(path: &str, start: usize, end: usize, text: &str) -> PathEdit {
+        PathEdit {
+            path: PathBuf::from(path),
+            start,
+            end,
+            replacement: text.to_string(),
+        }
+    }
+
+    #[test]
+    fn two_fixes_editing_one_value_differently_conflict() {
+        let divide_by_4 = vec![edit("/r/a.rig.yaml", 100, 103, "4")];
+        let divide_by_8 = vec![edit("/r/a.rig.yaml", 100, 103, "8")];
+        let overlapping = vec![edit("/r/a.rig.yaml", 102, 110, "x")];
+        let same_as_first = vec![
+            edit("/r/a.rig.yaml", 100, 103, "4"),
+            edit("/r/a.rig.yaml", 200, 201, "y"),
+        ];
+        let elsewhere = vec![edit("/r/b.rig.yaml", 100, 103, "8")];
+        let keys = [
+            &divide_by_4,
+            &divide_by_8,
+            &overlapping,
+            &same_as_first,
+            &elsewhere,
+        ];
+        assert_eq!(
+            conflicting(&keys),
+            vec![(0, 1), (0, 2), (1, 2), (1, 3), (2, 3)],
+            "one shared identical edit (0 and 3) is no conflict; another file is none"
+        );
+    }
+
+    #[test]
+    fn edits_apply_in_order_and_keep_every_other_byte() {
+        let text = "\u{feff}a: 3 KHz # c\r\nb: Butterworth\r\n";
+        let e1 = edit("/f", 8, 11, "kHz");
+        let e2 = edit("/f", 20, 31, "butterworth");
+        assert_eq!(&text[8..11], "KHz");
+        assert_eq!(&text[20..31], "Butterworth");
+        assert_eq!(
+            apply_to_text(text, &[&e1, &e2]),
+            "\u{feff}a: 3 kHz # c\r\nb: butterworth\r\n"
+        );
+    }
 }

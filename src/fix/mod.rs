@@ -37,7 +37,7 @@ pub struct PathEdit {
 
 /// A fix's edits by path, sorted and without repeats; `None` when they cannot be
 /// applied to the texts at hand (out of range, not on character boundaries,
-/// overlapping, or in a file whose text is not kept).
+/// overlapping, or replacing an alias, anchor or tag).
 pub fn edit_key(sources: &Sources, fix: &Fix) -> Option<Vec<PathEdit>> {
     let mut key = Vec::with_capacity(fix.edits.len());
     for e in &fix.edits {
@@ -50,6 +50,10 @@ pub fn edit_key(sources: &Sources, fix: &Fix) -> Option<Vec<PathEdit>> {
             || !file.text.is_char_boundary(start)
             || !file.text.is_char_boundary(end)
         {
+            return None;
+        }
+        // An edit never replaces YAML's own syntax: an alias, an anchor or a tag.
+        if file.text[start..end].starts_with(['*', '&', '!']) {
             return None;
         }
         key.push(PathEdit {
@@ -138,7 +142,7 @@ fn identity(sources: &Sources, f: &Finding, shift: Option<&Shift>) -> Identity {
         (None, None) => {
             let at = f.primary.span.start as usize;
             let at = shift.map_or(at, |s| s.map(&path, at));
-            format!("at:{at}")
+            format!("at:{at}:{}", f.primary.text)
         }
     };
     Identity::Place(f.rule, path, what)
@@ -352,7 +356,12 @@ impl<'a> VerifyCtx<'a> {
                 for (id, path, at) in &extra.1 {
                     before.insert(match id {
                         Identity::Place(rule, p, w) if w.starts_with("at:") => {
-                            Identity::Place(rule, p.clone(), format!("at:{}", shift.map(path, *at)))
+                            let label = w.splitn(3, ':').nth(2).unwrap_or("");
+                            Identity::Place(
+                                rule,
+                                p.clone(),
+                                format!("at:{}:{label}", shift.map(path, *at)),
+                            )
                         }
                         other => other.clone(),
                     });
