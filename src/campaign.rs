@@ -841,6 +841,7 @@ fn lint_loaded(ctx: &Ctx, job: &Job, keep: bool, mut loaded: Loaded) -> RigResul
             .release_text(loaded.file);
     }
     let includes = catalogs
+        .list
         .iter()
         .map(|c| c.file)
         .filter(|f| *f != FileId::MAX)
