@@ -123,18 +123,14 @@ impl Shift {
     }
 }
 
-/// What makes two findings of two runs the same finding: the fingerprint when there is
-/// one, else the rule, the file and the subject (or channel, or place).
+/// What makes two findings of two runs the same finding: the rule, the file and the
+/// subject key path (or the channel, or the place and label). Not the fingerprint
+/// itself: a fingerprint's owner part depends on which rigs a run holds (a name shared
+/// by two rigs), and verification lints only the rigs an edit reaches.
 #[derive(Clone, Debug, PartialEq, Eq, Hash)]
-enum Identity {
-    Fingerprint(String),
-    Place(&'static str, PathBuf, String),
-}
+struct Identity(&'static str, PathBuf, String);
 
 fn identity(sources: &Sources, f: &Finding, shift: Option<&Shift>) -> Identity {
-    if let Some(fp) = &f.fingerprint {
-        return Identity::Fingerprint(fp.clone());
-    }
     let path = absolute(&sources.get(f.primary.span.file).path);
     let what = match (&f.subject, &f.channel) {
         (Some(s), _) => format!("subject:{s}"),
@@ -145,7 +141,7 @@ fn identity(sources: &Sources, f: &Finding, shift: Option<&Shift>) -> Identity {
             format!("at:{at}:{}", f.primary.text)
         }
     };
-    Identity::Place(f.rule, path, what)
+    Identity(f.rule, path, what)
 }
 
 /// The result of verifying one edit set.
@@ -355,13 +351,9 @@ impl<'a> VerifyCtx<'a> {
                 }
                 for (id, path, at) in &extra.1 {
                     before.insert(match id {
-                        Identity::Place(rule, p, w) if w.starts_with("at:") => {
+                        Identity(rule, p, w) if w.starts_with("at:") => {
                             let label = w.splitn(3, ':').nth(2).unwrap_or("");
-                            Identity::Place(
-                                rule,
-                                p.clone(),
-                                format!("at:{}:{label}", shift.map(path, *at)),
-                            )
+                            Identity(rule, p.clone(), format!("at:{}:{label}", shift.map(path, *at)))
                         }
                         other => other.clone(),
                     });
