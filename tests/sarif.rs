@@ -628,3 +628,40 @@ fn examples_validate_and_carry_findings_the_readme_names() {
         );
     }
 }
+
+#[test]
+fn verified_fixes_are_sarif_fixes_with_the_json_edits() {
+    // The units case: three unit spellings, each with a verified fix.
+    let dir = repo().join("tests/cases/quantity");
+    let (sarif, json, _) = sarif_and_json(&dir, &["near-miss-units.rig.yaml"]);
+    let with_fix: Vec<&Value> = findings(&json)
+        .iter()
+        .filter(|f| f.get("fix").is_some())
+        .collect();
+    assert_eq!(with_fix.len(), 3, "{json}");
+    let results = results(&sarif);
+    assert_eq!(results.len(), findings(&json).len());
+    for (r, f) in results.iter().zip(findings(&json)) {
+        let Some(fix) = f.get("fix") else {
+            assert!(r.get("fixes").is_none(), "{r}");
+            continue;
+        };
+        let sfix = &r["fixes"][0];
+        assert_eq!(sfix["description"]["text"], fix["description"]);
+        let change = &sfix["artifactChanges"][0];
+        assert_eq!(
+            percent_decode(change["artifactLocation"]["uri"].as_str().unwrap()),
+            fix["edits"][0]["file"].as_str().unwrap()
+        );
+        let rep = &change["replacements"][0];
+        let edit = &fix["edits"][0];
+        assert_eq!(rep["deletedRegion"]["byteOffset"], edit["start"]);
+        assert_eq!(
+            rep["deletedRegion"]["byteLength"].as_u64().unwrap(),
+            edit["end"].as_u64().unwrap() - edit["start"].as_u64().unwrap()
+        );
+        assert_eq!(rep["deletedRegion"]["startLine"], edit["line"]);
+        assert_eq!(rep["deletedRegion"]["startColumn"], edit["column"]);
+        assert_eq!(rep["insertedContent"]["text"], edit["replacement"]);
+    }
+}

@@ -353,7 +353,11 @@ impl<'a> VerifyCtx<'a> {
                     before.insert(match id {
                         Identity(rule, p, w) if w.starts_with("at:") => {
                             let label = w.splitn(3, ':').nth(2).unwrap_or("");
-                            Identity(rule, p.clone(), format!("at:{}:{label}", shift.map(path, *at)))
+                            Identity(
+                                rule,
+                                p.clone(),
+                                format!("at:{}:{label}", shift.map(path, *at)),
+                            )
                         }
                         other => other.clone(),
                     });
