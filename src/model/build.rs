@@ -280,7 +280,11 @@ impl<'a> Builder<'a> {
                     "source" => source = b.string(v),
                     "divide" => divide = b.uint(v, 1, u32::MAX.into()),
                     "multiply" => multiply = b.uint(v, 1, u32::MAX.into()),
-                    _ => {}
+                    k if k.starts_with("x-") => {}
+                    // An unknown key (reported by the schema), e.g. the `2 kHz` that a
+                    // decimal comma splits off `{ frequency: 51,2 kHz }`: the clock's
+                    // rate is not to be trusted, so nothing is derived from it.
+                    _ => b.broken = true,
                 }
             }
         });

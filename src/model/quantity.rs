@@ -227,6 +227,44 @@ pub fn parse(text: &str, kind: Kind) -> Result<Exact, QuantityError> {
             )),
         ));
     }
+    // A decimal comma (`51,2 kHz`), as many locales write it.
+    if let Some(rest) = t[split..].strip_prefix(',')
+        && rest.starts_with(|c: char| c.is_ascii_digit())
+        && !t[..split].contains(['.', 'e', 'E'])
+    {
+        let fraction = number_len(rest);
+        let dotted = format!("{}.{}", &t[..split], &rest[..fraction]);
+        if parse_decimal(&dotted).is_some() {
+            let unit = rest[fraction..].trim();
+            let with_unit = |n: &str| {
+                if unit.is_empty() {
+                    n.to_string()
+                } else {
+                    format!("{n} {unit}")
+                }
+            };
+            if fraction == 3 {
+                // `1,024 kHz`: a thousands separator or a decimal comma; offer both.
+                let whole = format!("{}{}", &t[..split], &rest[..fraction]);
+                return Err(QuantityError::new(
+                    format!(
+                        "`{shown}` has a comma in its number; quantities take neither \
+                         thousands separators nor decimal commas"
+                    ),
+                    Some(format!(
+                        "write `{}` or `{}`, whichever you mean",
+                        elide(&with_unit(&whole)),
+                        elide(&with_unit(&dotted))
+                    )),
+                ));
+            }
+            let suggestion = with_unit(&dotted);
+            return Err(QuantityError::new(
+                format!("`{shown}` has a decimal comma; quantities use a decimal point"),
+                Some(format!("write `{}`", elide(&suggestion))),
+            ));
+        }
+    }
     let Some(number) = parse_decimal(&t[..split]) else {
         return Err(out_of_range(t, kind));
     };
@@ -425,6 +463,26 @@ mod tests {
 
     fn hz(s: &str) -> Exact {
         parse(s, Kind::Frequency).unwrap()
+    }
+
+    #[test]
+    fn decimal_comma_gets_a_decimal_point() {
+        let e = parse("51,2 kHz", Kind::Frequency).unwrap_err();
+        assert_eq!(
+            e.message,
+            "`51,2 kHz` has a decimal comma; quantities use a decimal point"
+        );
+        assert_eq!(e.help.as_deref(), Some("write `51.2 kHz`"));
+        let e = parse("0,5 dB", Kind::Level).unwrap_err();
+        assert_eq!(e.help.as_deref(), Some("write `0.5 dB`"));
+        let e = parse("12,5", Kind::Frequency).unwrap_err();
+        assert_eq!(e.help.as_deref(), Some("write `12.5`"));
+        // Three digits after the comma may be a thousands separator: both readings.
+        let e = parse("1,024 kHz", Kind::Frequency).unwrap_err();
+        assert_eq!(
+            e.help.as_deref(),
+            Some("write `1024 kHz` or `1.024 kHz`, whichever you mean")
+        );
     }
 
     #[test]
