@@ -218,7 +218,7 @@ pub fn check(root: &Node, text: &str) -> Vec<Finding> {
                 Finding::new(
                     "schema",
                     Severity::Error,
-                    Label::new(node.span, format!("{}", plural_items(n))),
+                    Label::new(node.span, plural_items(n)),
                     message,
                 )
                 .with_help(help)
