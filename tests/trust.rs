@@ -111,7 +111,7 @@ fn suppression_comment_cannot_silence_an_input_rule() {
         f,
         [
             "warning suppression 4:3-4:54 `schema` is an input rule, which a comment cannot suppress",
-            "error schema 8:5-8:11 unknown key `colour` in `channels[0]`",
+            "error schema 8:5-8:11 unknown key `colour` in channel `a`",
         ],
         "{f:#?}"
     );
