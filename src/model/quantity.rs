@@ -427,17 +427,38 @@ pub fn format_hz(hz: f64) -> String {
 
 /// A number with up to 6 significant digits, trailing zeros removed.
 pub fn sig6(x: f64) -> String {
-    if x == 0.0 || !x.is_finite() {
+    if x == 0.0 {
+        // Never "-0": a negative zero reads as a sign that means nothing.
+        return "0".to_string();
+    }
+    if !x.is_finite() {
         return format!("{x}");
     }
     let digits = 6 - 1 - x.abs().log10().floor() as i32;
     let decimals = digits.clamp(0, 12) as usize;
     let s = format!("{x:.decimals$}");
-    if s.contains('.') {
+    let s = if s.contains('.') {
         s.trim_end_matches('0').trim_end_matches('.').to_string()
     } else {
         s
+    };
+    if s == "-0" { "0".to_string() } else { s }
+}
+
+/// A duration in seconds in the largest of `s`, `ms`, `µs`, `ns` that keeps the value
+/// ≥ 1, with up to 6 significant digits: `0.684 ms` is written `684 µs`.
+pub fn format_seconds(s: f64) -> String {
+    if s == 0.0 || !s.is_finite() {
+        return format!("{} s", sig6(s));
     }
+    let units = [(1.0, "s"), (1e-3, "ms"), (1e-6, "\u{b5}s"), (1e-9, "ns")];
+    let rounded = sig6(s).parse::<f64>().unwrap_or(s);
+    let (scale, unit) = units
+        .iter()
+        .copied()
+        .find(|(scale, _)| rounded.abs() >= *scale)
+        .unwrap_or((1e-9, "ns"));
+    format!("{} {unit}", sig6(s / scale))
 }
 
 /// Format a data rate in bytes per second (powers of 1000).
@@ -587,6 +608,22 @@ mod tests {
         assert!(parse(".5 Hz", Kind::Frequency).is_ok_and(|v| v == Exact::new(1, 2)));
         assert!(parse(". Hz", Kind::Frequency).is_err());
         assert!(parse("2 e", Kind::Frequency).is_err());
+    }
+
+    #[test]
+    fn no_negative_zero_is_printed() {
+        assert_eq!(sig6(-0.0), "0");
+        assert_eq!(sig6(-1e-20), "0");
+        assert_eq!(sig6(-0.5), "-0.5");
+        assert_eq!(format_seconds(-0.0), "0 s");
+    }
+
+    #[test]
+    fn durations_take_the_largest_unit_above_one() {
+        assert_eq!(format_seconds(17.5 / 25_600.0), "683.594 \u{b5}s");
+        assert_eq!(format_seconds(0.0025), "2.5 ms");
+        assert_eq!(format_seconds(2.0), "2 s");
+        assert_eq!(format_seconds(-3e-8), "-30 ns");
     }
 
     #[test]

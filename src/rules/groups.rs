@@ -2,7 +2,7 @@
 
 use super::{Rule, Stage};
 use crate::finding::{Finding, Severity, round_to};
-use crate::model::quantity::{format_hz, sig6, to_f64};
+use crate::model::quantity::{format_hz, format_seconds, sig6, to_f64};
 use crate::model::{Filter, Group, Response};
 use crate::resolve::Rig;
 use crate::resolve::chain::Chain;
@@ -142,12 +142,16 @@ pub static GROUP_PHASE: Rule = Rule {
     severity: Severity::Warning,
     summary: "two members of a group differ in chain phase by more than the tolerance",
     explanation: "\
-Different anti-alias filters delay signals differently. Between two channels analysed
-together, the difference of their chains' phases at the group's highest band shows up as
-a false phase in a transfer function. It must stay within the group's `phase-tolerance`,
-else the rig's `defaults.phase-tolerance`, else foldcheck.toml, else 2 deg. Phases of the
-analog filters come from their poles (Butterworth, Chebyshev) or polynomial (Bessel);
-digital and sinc filters are linear-phase and count alike for every channel.",
+Different anti-alias filters and different digital stages delay signals differently.
+Between two channels analysed together (cross-spectra, transfer functions, modal work)
+that difference shows up as a false phase. For each pair of members, foldcheck compares
+their chains' phase over the whole common band (0 to the lowest band in the group): the
+unwrapped phase of the analog filters (from their poles) less 360 deg × f × the sum of
+the digital delays (a sinc stage of order N and factor M delays N·(M − 1)/2 input
+samples; a `digital` filter by its `delay` or `delay-samples`). The phase is not
+wrapped: a whole-cycle lag is a real time offset for a broadband signal. The largest
+difference must stay within the group's `phase-tolerance`, else the rig's
+`defaults.phase-tolerance`, else foldcheck.toml, else 2 deg. See docs/model.md.",
     failing: "\
 format: 1
 rig: demo
@@ -200,56 +204,163 @@ fn check_phase(rig: &Rig, out: &mut Vec<Finding>) {
             .phase_tolerance
             .as_ref()
             .map_or(rig.thresholds.phase_tolerance, |t| t.value);
-        let members: Vec<(usize, Chain, f64)> = rig.group_members[gi]
-            .iter()
-            .filter(|&&c| rig.channels[c].ok)
-            .filter_map(|&c| {
-                let ch = &rig.channels[c];
-                Some((c, Chain::new(rig, ch)?, to_f64(&ch.band.as_ref()?.hz)))
-            })
-            .collect();
-        if members.len() < 2 {
+        let Some(members) = comparable_members(rig, gi) else {
             continue;
+        };
+        // The common band: the lowest band in the group.
+        let common = members.iter().map(|m| m.2).fold(f64::INFINITY, f64::min);
+        for i in 0..members.len() {
+            for j in i + 1..members.len() {
+                let (a, b) = (&members[i], &members[j]);
+                let cmp = compare_pair(&a.1, &b.1, common);
+                if cmp.phase_difference_deg.abs() <= tol {
+                    continue;
+                }
+                out.push(phase_finding(rig, g, (a.0, b.0), &cmp, common, tol));
+            }
         }
-        let f = members.iter().map(|m| m.2).fold(0.0, f64::max);
-        let phases: Vec<(usize, f64)> = members
-            .iter()
-            .map(|(c, chain, _)| (*c, chain.phase_deg(f)))
-            .collect();
-        let (lo, hi) = phases.iter().fold((phases[0], phases[0]), |(lo, hi), &p| {
-            (
-                if p.1 < lo.1 { p } else { lo },
-                if p.1 > hi.1 { p } else { hi },
-            )
-        });
-        let diff = hi.1 - lo.1;
-        if diff <= tol {
-            continue;
-        }
-        let name_of = |c: usize| rig.channels[c].def.name.value.as_str();
-        let ref_span = |c: usize| member_span(g, name_of(c));
-        let mut finding = GROUP_PHASE
-            .finding(ref_span(hi.0), format!("{} deg at {}", sig6(round_to(hi.1, 2)), format_hz(f)), format!(
-                "in group `{}`, the chains of `{}` and `{}` differ by {} deg at {}, more than the {} deg tolerance",
-                g.name.value,
-                name_of(lo.0),
-                name_of(hi.0),
-                sig6(round_to(diff, 2)),
-                format_hz(f),
-                sig6(tol)
-            ))
-            .with_label(ref_span(lo.0), format!("{} deg at {}", sig6(round_to(lo.1, 2)), format_hz(f)));
-        if let Some(t) = &g.phase_tolerance {
-            finding = finding.with_label(t.span, format!("tolerance {} deg", sig6(tol)));
-        }
-        out.push(
-            finding
-                .with_help("give the members the same anti-alias filter (type, order and cutoff), or phase-correct them in the analysis and raise the tolerance")
-                .with_f64("phase_difference_deg", round_to(diff, 4))
-                .with_f64("tolerance_deg", tol)
-                .with_f64("frequency_hz", f),
-        );
     }
+}
+
+/// The analysed members of group `gi` in name order, with their chains and bands; `None`
+/// when fewer than two, or when they mix root clocks or final rates (`group-clock`'s
+/// finding: comparing their phase would add nothing to it).
+fn comparable_members(rig: &Rig, gi: usize) -> Option<Vec<(usize, Chain<'_>, f64)>> {
+    let mut members: Vec<(usize, Chain, f64)> = rig.group_members[gi]
+        .iter()
+        .filter(|&&c| rig.channels[c].ok)
+        .filter_map(|&c| {
+            let ch = &rig.channels[c];
+            Some((c, Chain::new(rig, ch)?, to_f64(&ch.band.as_ref()?.hz)))
+        })
+        .collect();
+    members.sort_by(|a, b| {
+        rig.channels[a.0]
+            .def
+            .name
+            .value
+            .cmp(&rig.channels[b.0].def.name.value)
+    });
+    members.dedup_by_key(|m| m.0);
+    let root_of = |c: usize| rig.channels[c].clock.and_then(|k| rig.clocks[k].root);
+    let (first, rest) = members.split_first()?;
+    if rest.is_empty()
+        || rest
+            .iter()
+            .any(|m| root_of(m.0) != root_of(first.0) || m.1.final_rate() != first.1.final_rate())
+    {
+        return None;
+    }
+    Some(members)
+}
+
+/// How two members' chains compare over a common band.
+#[derive(Clone, Debug, PartialEq)]
+pub struct PairComparison {
+    /// φ_a − φ_b at `frequency_hz`, degrees: the largest in magnitude over (0, B_c].
+    pub phase_difference_deg: f64,
+    /// Where it occurs.
+    pub frequency_hz: f64,
+    /// Latency a − latency b, seconds.
+    pub delay_difference_s: f64,
+    /// Digital delay a − digital delay b, seconds.
+    pub digital_difference_s: f64,
+    /// Each member's phase at `frequency_hz` (analog less digital delay), degrees.
+    pub phases_deg: (f64, f64),
+}
+
+/// Compare two chains over `(0, common]` (docs/model.md, "Groups").
+pub fn compare_pair(a: &Chain, b: &Chain, common: f64) -> PairComparison {
+    let (frequency_hz, phase_difference_deg) = crate::resolve::chain::max_phase_difference(
+        |f| a.total_phase_deg(f),
+        |f| b.total_phase_deg(f),
+        common,
+    );
+    PairComparison {
+        phase_difference_deg,
+        frequency_hz,
+        delay_difference_s: a.latency_s() - b.latency_s(),
+        digital_difference_s: a.digital_delay_s() - b.digital_delay_s(),
+        phases_deg: (
+            a.total_phase_deg(frequency_hz),
+            b.total_phase_deg(frequency_hz),
+        ),
+    }
+}
+
+fn phase_finding(
+    rig: &Rig,
+    g: &Group,
+    (a, b): (usize, usize),
+    cmp: &PairComparison,
+    common: f64,
+    tol: f64,
+) -> Finding {
+    let name_of = |c: usize| rig.channels[c].def.name.value.as_str();
+    let ref_span = |c: usize| member_span(g, name_of(c));
+    let (an, bn) = (name_of(a), name_of(b));
+    let at = format_hz(cmp.frequency_hz);
+    let diff = crate::finding::round_to(cmp.phase_difference_deg, 2) + 0.0;
+    // The member that lags more carries the primary label; each label shows its phase.
+    let label = |deg: f64| format!("{} deg at {at}", sig6(round_to(deg, 2) + 0.0));
+    let ((lagging, lag_deg), (leading, lead_deg)) = if cmp.phase_difference_deg < 0.0 {
+        ((a, cmp.phases_deg.0), (b, cmp.phases_deg.1))
+    } else {
+        ((b, cmp.phases_deg.1), (a, cmp.phases_deg.0))
+    };
+    let latency = if cmp.delay_difference_s.abs() >= 1e-9 {
+        let (late, early) = if cmp.delay_difference_s > 0.0 {
+            (an, bn)
+        } else {
+            (bn, an)
+        };
+        format!(
+            "; `{late}` lags `{early}` by {} at DC",
+            format_seconds(cmp.delay_difference_s.abs())
+        )
+    } else {
+        String::new()
+    };
+    let digital_deg = 360.0 * cmp.frequency_hz * cmp.digital_difference_s;
+    let help = if digital_deg.abs() > tol {
+        let (slow, fast) = if cmp.digital_difference_s > 0.0 {
+            (an, bn)
+        } else {
+            (bn, an)
+        };
+        format!(
+            "the digital stages of `{slow}` delay it {} more than `{fast}`: give both the same decimation chain, or shift `{fast}` by that delay in the analysis and raise the tolerance",
+            format_seconds(cmp.digital_difference_s.abs())
+        )
+    } else {
+        "give the members the same anti-alias filter (type, order and cutoff), or phase-correct them in the analysis and raise the tolerance".to_string()
+    };
+    let mut finding = GROUP_PHASE
+        .finding(
+            ref_span(lagging),
+            label(lag_deg),
+            format!(
+                "in group `{}`, `{an}` and `{bn}` differ in phase by {} deg at {at} (within their common {} band), more than the {} deg tolerance{latency}",
+                g.name.value,
+                sig6(diff),
+                format_hz(common),
+                sig6(tol)
+            ),
+        )
+        .with_label(ref_span(leading), label(lead_deg));
+    if let Some(t) = &g.phase_tolerance {
+        finding = finding.with_label(t.span, format!("tolerance {} deg", sig6(tol)));
+    }
+    finding
+        .with_help(help)
+        .with_subject(format!("group/{}/pair/{an}/{bn}", g.name.value))
+        .with_f64(
+            "phase_difference_deg",
+            round_to(cmp.phase_difference_deg, 4) + 0.0,
+        )
+        .with_f64("frequency_hz", cmp.frequency_hz)
+        .with_f64("tolerance_deg", tol)
+        .with_f64("delay_difference_s", cmp.delay_difference_s + 0.0)
 }
 
 /// `group-incomplete`.
@@ -393,32 +504,13 @@ fn tables<'c>(chain: &Chain<'c>) -> Vec<&'c Filter> {
 
 fn check_incomplete(rig: &Rig, out: &mut Vec<Finding>) {
     for (gi, g) in rig.groups.iter().enumerate() {
-        let mut members: Vec<(usize, Chain)> = rig.group_members[gi]
-            .iter()
-            .filter(|&&c| rig.channels[c].ok)
-            .filter_map(|&c| Some((c, Chain::new(rig, &rig.channels[c])?)))
-            .collect();
-        members.sort_by(|a, b| {
-            rig.channels[a.0]
-                .def
-                .name
-                .value
-                .cmp(&rig.channels[b.0].def.name.value)
-        });
-        members.dedup_by_key(|m| m.0);
-        // Members on different roots or final rates are `group-clock`'s: comparing their
-        // phase would add nothing to that finding.
-        let root_of = |c: usize| rig.channels[c].clock.and_then(|k| rig.clocks[k].root);
-        if let Some((first, rest)) = members.split_first()
-            && rest.iter().any(|m| {
-                root_of(m.0) != root_of(first.0) || m.1.final_rate() != first.1.final_rate()
-            })
-        {
+        let Some(members) = comparable_members(rig, gi) else {
             continue;
-        }
+        };
         for i in 0..members.len() {
             for j in i + 1..members.len() {
-                if let Some(f) = incomplete_pair(rig, g, &members[i], &members[j]) {
+                let (a, b) = (&members[i], &members[j]);
+                if let Some(f) = incomplete_pair(rig, g, (a.0, &a.1), (b.0, &b.1)) {
                     out.push(f);
                 }
             }
@@ -430,15 +522,15 @@ fn check_incomplete(rig: &Rig, out: &mut Vec<Finding>) {
 fn incomplete_pair(
     rig: &Rig,
     g: &Group,
-    (ai, a): &(usize, Chain),
-    (bi, b): &(usize, Chain),
+    (ai, a): (usize, &Chain),
+    (bi, b): (usize, &Chain),
 ) -> Option<Finding> {
     let name = |c: usize| rig.channels[c].def.name.value.as_str();
-    let (an, bn) = (name(*ai), name(*bi));
+    let (an, bn) = (name(ai), name(bi));
     // (span, label, clause) of each thing left out.
     let mut gaps: Vec<(Span, String, String)> = Vec::new();
     if signature(a) != signature(b) {
-        for (c, chain) in [(*ai, a), (*bi, b)] {
+        for (c, chain) in [(ai, a), (bi, b)] {
             for (f, at) in digital_filters(chain) {
                 if let Response::Digital { delay: None, .. } = f.response {
                     gaps.push((
@@ -464,7 +556,7 @@ fn incomplete_pair(
             .map(|f| f.span)
             .collect()
     };
-    for (c, spans) in [(*ai, unmatched(&ta, &tb)), (*bi, unmatched(&tb, &ta))] {
+    for (c, spans) in [(ai, unmatched(&ta, &tb)), (bi, unmatched(&tb, &ta))] {
         for span in spans {
             gaps.push((
                 span,
