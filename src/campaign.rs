@@ -5,7 +5,8 @@
 use crate::finding::{Finding, Label, Severity};
 use crate::model::build;
 use crate::model::{Document, Role};
-use crate::resolve::{self, Rig};
+use crate::resolve::{self, Rig, Unchecked};
+use crate::root::{CampaignRoot, RootKind};
 use crate::settings::{self, Level, Settings};
 use crate::source::yaml::{self, Node};
 use crate::source::{FileId, LineIndex, Sources, Span};
@@ -111,6 +112,18 @@ pub struct Outcome {
     pub(crate) jobs: Vec<Job>,
     /// The texts that stood in for files.
     pub(crate) overlay: Option<Arc<Overlay>>,
+    /// Notes about the run for the human report (a named file that settings exclude).
+    pub notes: Vec<String>,
+    /// The campaign roots used that no `foldcheck.toml` chose (git work tree's top, the
+    /// current directory, …), in first-use order: the human report names them.
+    pub roots_without_settings: Vec<CampaignRoot>,
+}
+
+impl Outcome {
+    /// The campaign root of a linted rig (src/root.rs).
+    pub fn root(&self, rig: &RigOutcome) -> Option<&CampaignRoot> {
+        self.jobs.get(rig.job).map(|j| &j.root)
+    }
 }
 
 /// One loaded file: its text is in [`Sources`], its tree is kept for suppressions.
@@ -164,7 +177,7 @@ fn overlay_text<'a>(overlay: Option<&'a Overlay>, path: &Path) -> Option<&'a str
 pub(crate) struct Job {
     pub(crate) path: PathBuf,
     display: String,
-    pub(crate) root: PathBuf,
+    pub(crate) root: CampaignRoot,
     pub(crate) settings: Arc<Settings>,
     /// A catalog named on the command line that no rig under its campaign root includes
     /// is checked on its own (syntax, schema, names, clocks).
@@ -174,8 +187,11 @@ pub(crate) struct Job {
 /// Lint the given paths (files and directories). Proposed fixes are verified (see
 /// [`crate::fix`]): only those that work stay on their findings.
 pub fn run(paths: &[PathBuf], opts: &Options) -> Result<Outcome, Fatal> {
-    let jobs = discover(paths, opts)?;
+    let (jobs, notes) = discover(paths, opts)?;
+    let roots = roots_without_settings(&jobs);
     let mut out = run_jobs(jobs, opts)?;
+    out.notes = notes;
+    out.roots_without_settings = roots;
     crate::fix::verify(&mut out, opts.max_file_bytes);
     Ok(out)
 }
@@ -212,10 +228,10 @@ pub(crate) fn run_jobs(jobs: Vec<Job>, opts: &Options) -> Result<Outcome, Fatal>
 /// The rig files under `root` that include `catalog`, as jobs with `like`'s root and
 /// settings (for verifying an edit to a shared catalog in every rig that uses it).
 pub(crate) fn dependent_jobs(like: &Job, catalog: &Path) -> Vec<Job> {
-    dependents(&like.root, catalog)
+    dependents(&like.root.dir, catalog)
         .into_iter()
         .map(|p| Job {
-            display: display(&relative_to_cwd(&p)),
+            display: relative_path(&absolute(Path::new(".")), &absolute(&p)),
             path: p,
             root: like.root.clone(),
             settings: like.settings.clone(),
@@ -242,7 +258,10 @@ pub fn lint_text(name: &str, text: &str) -> (Sources, Vec<Finding>) {
     let job = Job {
         display: display(&path),
         path: path.clone(),
-        root: absolute(dir),
+        root: CampaignRoot {
+            dir: absolute(dir),
+            kind: RootKind::FileDirectory,
+        },
         settings: Arc::new(Settings::default()),
         role: Role::Rig,
     };
@@ -260,6 +279,17 @@ pub fn lint_text(name: &str, text: &str) -> (Sources, Vec<Finding>) {
         // Only reading can fail, and the text comes from memory.
         Err(e) => unreachable!("an in-memory rig is always readable: {e}"),
     }
+}
+
+/// The distinct campaign roots of the jobs that no settings file chose.
+fn roots_without_settings(jobs: &[Job]) -> Vec<CampaignRoot> {
+    let mut out: Vec<CampaignRoot> = Vec::new();
+    for j in jobs {
+        if !j.root.has_settings() && !out.contains(&j.root) {
+            out.push(j.root.clone());
+        }
+    }
+    out
 }
 
 /// Gather the rigs' findings, apply settings levels and suppressions, and sort.
@@ -334,6 +364,8 @@ fn finish(ctx: Ctx, results: Vec<RigResult>, files: usize, jobs: Vec<Job>) -> Ou
         rigs,
         jobs,
         overlay: ctx.overlay,
+        notes: Vec::new(),
+        roots_without_settings: Vec::new(),
     }
 }
 
@@ -356,33 +388,39 @@ fn dedup(findings: &mut Vec<Finding>) {
 }
 
 /// Turn the command line's paths into rig-file jobs.
-fn discover(paths: &[PathBuf], opts: &Options) -> Result<Vec<Job>, Fatal> {
+fn discover(paths: &[PathBuf], opts: &Options) -> Result<(Vec<Job>, Vec<String>), Fatal> {
     let forced = match &opts.settings {
         Some(p) => Some(Arc::new(settings::load(p).map_err(Fatal::Settings)?)),
         None => None,
     };
     let mut cache: HashMap<PathBuf, Arc<Settings>> = HashMap::new();
+    // The campaign root of a file (src/root.rs) and the settings that go with it.
     let mut settings_for =
-        |dir: &Path, fallback_root: &Path| -> Result<(PathBuf, Arc<Settings>), Fatal> {
+        |file: &Path, walked: Option<&Path>| -> Result<(CampaignRoot, Arc<Settings>), Fatal> {
             if let (Some(s), Some(p)) = (&forced, &opts.settings) {
-                let root = p.parent().map(Path::to_path_buf).unwrap_or_default();
-                return Ok((absolute(&root), s.clone()));
+                let abs = absolute(p);
+                let dir = abs.parent().map(Path::to_path_buf).unwrap_or_default();
+                let root = CampaignRoot {
+                    dir,
+                    kind: RootKind::Settings(abs),
+                };
+                return Ok((root, s.clone()));
             }
-            let abs = absolute(dir);
-            match settings::discover(&abs) {
-                Some(file) => {
-                    let root = file.parent().map(Path::to_path_buf).unwrap_or_default();
-                    if let Some(s) = cache.get(&file) {
+            let root = crate::root::campaign_root_in(file, walked);
+            match &root.kind {
+                RootKind::Settings(file) => {
+                    if let Some(s) = cache.get(file) {
                         return Ok((root, s.clone()));
                     }
-                    let s = Arc::new(settings::load(&file).map_err(Fatal::Settings)?);
-                    cache.insert(file, s.clone());
+                    let s = Arc::new(settings::load(file).map_err(Fatal::Settings)?);
+                    cache.insert(file.clone(), s.clone());
                     Ok((root, s))
                 }
-                None => Ok((absolute(fallback_root), Arc::new(Settings::default()))),
+                _ => Ok((root, Arc::new(Settings::default()))),
             }
         };
     let mut jobs = Vec::new();
+    let mut notes = Vec::new();
     let mut seen = std::collections::HashSet::new();
     let overlay = opts.overlay.as_deref();
     for p in paths {
@@ -413,9 +451,8 @@ fn discover(paths: &[PathBuf], opts: &Options) -> Result<Vec<Job>, Fatal> {
                 {
                     continue;
                 }
-                let dir = path.parent().unwrap_or(Path::new("."));
-                let (root, s) = settings_for(dir, p)?;
-                if excluded(&s, &root, path) || !seen.insert(identity(path)) {
+                let (root, s) = settings_for(path, Some(p))?;
+                if excluded(&s, &root.dir, path).is_some() || !seen.insert(identity(path)) {
                     continue;
                 }
                 jobs.push(Job {
@@ -427,28 +464,23 @@ fn discover(paths: &[PathBuf], opts: &Options) -> Result<Vec<Job>, Fatal> {
                 });
             }
         } else {
-            let dir = p
-                .parent()
-                .filter(|d| !d.as_os_str().is_empty())
-                .unwrap_or(Path::new("."));
-            let (root, s) = settings_for(dir, dir)?;
-            if excluded(&s, &root, p) {
-                continue;
+            let (root, s) = settings_for(p, None)?;
+            if let Some(pattern) = excluded(&s, &root.dir, p) {
+                // Named on the command line: the user wants it linted. Say that the
+                // settings would have left it out (docs/format.md, "exclude").
+                notes.push(format!(
+                    "{} is linted because it was named, although the settings exclude it (`{pattern}` in {})",
+                    display(p),
+                    s.path
+                        .as_deref()
+                        .map(|f| display(&relative_to_cwd(f)))
+                        .unwrap_or_else(|| settings::FILE_NAME.to_string())
+                ));
             }
             if is_catalog_file(p, overlay) {
                 // Pre-commit passes changed files: a changed catalog means linting the
-                // rigs that include it. Without a settings file, search the working
-                // directory (where pre-commit runs) when the catalog lies under it.
-                let search = if s.path.is_some() {
-                    root.clone()
-                } else {
-                    let cwd = absolute(Path::new("."));
-                    if absolute(p).starts_with(&cwd) {
-                        cwd
-                    } else {
-                        root.clone()
-                    }
-                };
+                // rigs that include it, searched for under the catalog's campaign root.
+                let search = root.dir.clone();
                 let deps = dependents(&search, &absolute(p));
                 if deps.is_empty() {
                     if seen.insert(identity(p)) {
@@ -463,13 +495,14 @@ fn discover(paths: &[PathBuf], opts: &Options) -> Result<Vec<Job>, Fatal> {
                     continue;
                 }
                 for dep in deps {
-                    let ddir = dep.parent().unwrap_or(Path::new("."));
-                    let (droot, ds) = settings_for(ddir, &search)?;
-                    if excluded(&ds, &droot, &dep) || !seen.insert(identity(&dep)) {
+                    let (droot, ds) = settings_for(&dep, Some(&search))?;
+                    if excluded(&ds, &droot.dir, &dep).is_some() || !seen.insert(identity(&dep)) {
                         continue;
                     }
                     jobs.push(Job {
-                        display: display(&relative_to_cwd(&dep)),
+                        // Shown relative to the working directory, as a named path
+                        // would be (`../rigs/a.rig.yaml` from inside `catalog/`).
+                        display: relative_path(&absolute(Path::new(".")), &absolute(&dep)),
                         path: dep,
                         root: droot,
                         settings: ds,
@@ -490,7 +523,7 @@ fn discover(paths: &[PathBuf], opts: &Options) -> Result<Vec<Job>, Fatal> {
             });
         }
     }
-    Ok(jobs)
+    Ok((jobs, notes))
 }
 
 /// Whether a file that is not named like a rig file is a catalog: a top-level
@@ -580,16 +613,57 @@ fn relative_to_cwd(p: &Path) -> PathBuf {
     abs.strip_prefix(&cwd).map(Path::to_path_buf).unwrap_or(abs)
 }
 
+/// The help of an include that leaves the campaign root: what the root is, and where a
+/// `foldcheck.toml` would make a campaign that holds both files.
+fn outside_help(campaign: &CampaignRoot, including: &Path, included: &Path) -> String {
+    let from = including.parent().unwrap_or(Path::new("/"));
+    let mut top = from.to_path_buf();
+    while !included.starts_with(&top) && top.pop() {}
+    let cwd = absolute(Path::new("."));
+    let top = relative_path(&cwd, &top);
+    let root = relative_path(&cwd, &campaign.dir);
+    if campaign.has_settings() {
+        format!(
+            "the campaign root is `{root}`, the directory of its foldcheck.toml: move the catalog inside it, or move foldcheck.toml up to `{top}`, which holds both files"
+        )
+    } else {
+        format!(
+            "no foldcheck.toml was found, so the campaign root is {} (`{root}`): create a foldcheck.toml (it may be empty) in `{top}`, the campaign's top directory, which holds both files",
+            campaign.describe()
+        )
+    }
+}
+
+/// The path of `to` relative to the directory `from` (both absolute and normalised),
+/// `/`-separated; `.` when they are the same.
+pub fn relative_path(from: &Path, to: &Path) -> String {
+    let f: Vec<_> = from.components().collect();
+    let t: Vec<_> = to.components().collect();
+    let common = f.iter().zip(&t).take_while(|(a, b)| a == b).count();
+    let mut parts: Vec<String> = vec!["..".to_string(); f.len() - common];
+    parts.extend(
+        t[common..]
+            .iter()
+            .map(|c| c.as_os_str().to_string_lossy().into_owned()),
+    );
+    if parts.is_empty() {
+        ".".to_string()
+    } else {
+        parts.join("/")
+    }
+}
+
 /// The file a path names, for linting each file once (a link and its target are one).
 fn identity(p: &Path) -> PathBuf {
     std::fs::canonicalize(p).unwrap_or_else(|_| absolute(p))
 }
 
-fn excluded(s: &Settings, root: &Path, path: &Path) -> bool {
+/// The exclusion pattern of the settings that matches `path`, if any.
+fn excluded<'s>(s: &'s Settings, root: &Path, path: &Path) -> Option<&'s str> {
     let abs = absolute(path);
-    abs.strip_prefix(root)
-        .map(|rel| s.excluded(rel))
-        .unwrap_or(false)
+    let rel = abs.strip_prefix(root).ok()?;
+    let i = s.exclude.matches(rel).into_iter().next()?;
+    s.exclude_patterns.get(i).map(String::as_str)
 }
 
 /// The path as the user gave it, with `./` prefixes removed.
@@ -813,20 +887,25 @@ fn lint_loaded(ctx: &Ctx, job: &Job, keep: bool, mut loaded: Loaded) -> RigResul
     // Includes, depth first, each catalog once per rig.
     let mut catalogs = Included::default();
     let mut stack = vec![absolute(&job.path)];
-    let root = canonical_or_self(&job.root);
+    let mut failed = Vec::new();
+    let root = canonical_or_self(&job.root.dir);
     include_all(
         ctx,
         &doc,
         &job.path,
         &job.display,
         &root,
+        &job.root,
         &mut stack,
         &mut catalogs,
         &mut out,
+        &mut failed,
     );
     let mut docs: Vec<&Document> = vec![&doc];
     docs.extend(catalogs.list.iter().filter_map(|c| c.doc.as_ref()));
-    let (rig, resolve_findings) = resolve::resolve(&docs, &job.settings.thresholds);
+    let (rig, resolve_findings, unchecked) =
+        resolve::resolve_incomplete(&docs, &job.settings.thresholds, !failed.is_empty());
+    report_unchecked(&mut out, &failed, &unchecked);
     out.extend(resolve_findings);
     out.extend(crate::rules::check_rig(&rig));
     // The rig's model is not needed past its rules: dropping it here keeps a campaign's
@@ -869,9 +948,11 @@ fn include_all(
     path: &Path,
     display_path: &str,
     root: &Path,
+    campaign: &CampaignRoot,
     stack: &mut Vec<PathBuf>,
     catalogs: &mut Included,
     out: &mut Vec<Finding>,
+    failures: &mut Vec<FailedInclude>,
 ) {
     let dir = path.parent().unwrap_or(Path::new(""));
     let display_dir = Path::new(display_path).parent().unwrap_or(Path::new(""));
@@ -927,19 +1008,37 @@ fn include_all(
                 } else {
                     "cannot be read"
                 };
+                let help = match closest_file(&target) {
+                    Some(name) => {
+                        let written = match inc.value.rfind('/') {
+                            Some(i) => format!("{}{name}", &inc.value[..=i]),
+                            None => name,
+                        };
+                        format!(
+                            "did you mean `{written}`? (the path is relative to the including file)"
+                        )
+                    }
+                    None => "check the path: it is relative to the including file".to_string(),
+                };
+                failures.push(FailedInclude::Reported(out.len()));
                 out.push(include_finding(
                     "no such file",
                     format!("the included file `{}` {what}", inc.value),
-                    "check the path: it is relative to the including file",
+                    &help,
                 ));
                 continue;
             }
         };
         if !real.starts_with(root) {
+            let help = outside_help(campaign, &absolute(path), &abs);
+            failures.push(FailedInclude::Reported(out.len()));
             out.push(include_finding(
                 "outside the campaign root",
-                format!("the included file `{}` lies outside the campaign root", inc.value),
-                "keep shared catalogs inside the campaign (the directory of foldcheck.toml, or the one linted)",
+                format!(
+                    "the included file `{}` lies outside the campaign root",
+                    inc.value
+                ),
+                &help,
             ));
             continue;
         }
@@ -956,6 +1055,7 @@ fn include_all(
         let loaded = match loaded {
             Ok(l) => l,
             Err(why) => {
+                failures.push(FailedInclude::Reported(out.len()));
                 out.push(include_finding(
                     "cannot be read",
                     format!("the included file `{}` cannot be read: {why}", inc.value),
@@ -986,10 +1086,101 @@ fn include_all(
                 .display
                 .clone();
             catalogs.list.push(loaded.clone());
-            include_all(ctx, cdoc, &cdoc_path, &cdisplay, root, stack, catalogs, out);
+            include_all(
+                ctx, cdoc, &cdoc_path, &cdisplay, root, campaign, stack, catalogs, out, failures,
+            );
             stack.pop();
         } else {
+            // It does not parse (its own finding says why): what it defines is unknown.
+            failures.push(FailedInclude::Unparsed(inc.span, inc.value.clone()));
             catalogs.list.push(loaded);
+        }
+    }
+}
+/// For a missing include target, the closest existing YAML file name in its directory.
+fn closest_file(target: &Path) -> Option<String> {
+    let name = target.file_name()?.to_str()?;
+    let dir = target.parent()?;
+    let entries = std::fs::read_dir(if dir.as_os_str().is_empty() {
+        Path::new(".")
+    } else {
+        dir
+    })
+    .ok()?;
+    let names: Vec<String> = entries
+        .flatten()
+        .filter(|e| e.file_type().is_ok_and(|t| t.is_file()))
+        .filter_map(|e| e.file_name().into_string().ok())
+        .filter(|n| n.ends_with(".yaml") || n.ends_with(".yml"))
+        .collect();
+    resolve::closest(name, names.iter().map(String::as_str)).map(str::to_string)
+}
+
+/// An include that failed, so the names it may define are unknown.
+enum FailedInclude {
+    /// Reported by the `include` finding at this index of the rig's findings.
+    Reported(usize),
+    /// The file was read but does not parse (reported in that file): the include's
+    /// span and path.
+    Unparsed(Span, String),
+}
+
+/// How many channel names a failed include's finding lists before giving a count.
+const LISTED_CHANNELS: usize = 10;
+
+/// Say on the first failed include what it left unchecked, instead of one
+/// `unknown-reference` finding per reference (docs/format.md, "include").
+fn report_unchecked(out: &mut Vec<Finding>, failed: &[FailedInclude], unchecked: &Unchecked) {
+    let Some(first) = failed.first() else { return };
+    if unchecked.references == 0 {
+        return;
+    }
+    let n = unchecked.references;
+    let mut text = format!(
+        "{n} reference{} to clocks, sensors or modules it may define could not be checked",
+        if n == 1 { "" } else { "s" }
+    );
+    let chans = &unchecked.channels;
+    if !chans.is_empty() {
+        let listed: Vec<String> = chans
+            .iter()
+            .take(LISTED_CHANNELS)
+            .map(|c| format!("`{c}`"))
+            .collect();
+        let more = chans.len().saturating_sub(LISTED_CHANNELS);
+        text.push_str(&format!(
+            ", so {} channel{} {} not checked: {}{}",
+            chans.len(),
+            if chans.len() == 1 { "" } else { "s" },
+            if chans.len() == 1 { "was" } else { "were" },
+            listed.join(", "),
+            if more > 0 {
+                format!(" and {more} more")
+            } else {
+                String::new()
+            }
+        ));
+    }
+    let mut values = serde_json::Map::new();
+    values.insert("unchecked_references".into(), n.into());
+    values.insert("unchecked_channels".into(), chans.len().into());
+    match first {
+        FailedInclude::Reported(i) => {
+            if let Some(f) = out.get_mut(*i) {
+                f.message = format!("{}; {text}", f.message);
+                f.values.extend(values);
+            }
+        }
+        FailedInclude::Unparsed(span, value) => {
+            let mut f = Finding::new(
+                "include",
+                Severity::Error,
+                Label::new(*span, "does not parse"),
+                format!("the included file `{value}` does not parse; {text}"),
+            )
+            .with_help("fix the included file's YAML syntax (its own finding says where)");
+            f.values = values;
+            out.push(f);
         }
     }
 }

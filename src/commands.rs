@@ -42,6 +42,14 @@ pub fn run(command: Command) -> Outcome {
                     "foldcheck: no rig files (*.rig.yaml, *.rig.yml) found in the given paths"
                 );
             }
+            if format == CheckFormat::Human {
+                for n in &out.notes {
+                    eprintln!("foldcheck: note: {n}");
+                }
+                if out.files > 0 {
+                    root_note(&out.roots_without_settings);
+                }
+            }
             let text = match format {
                 CheckFormat::Human => human::render(
                     &out.sources,
@@ -261,6 +269,25 @@ fn summary_line(plan: &fix::Plan, dry_run: bool) -> String {
         },
         if files == 1 { "" } else { "s" }
     )
+}
+
+/// Say which campaign root was used when no foldcheck.toml chose it (docs/format.md,
+/// "Campaign root"): on stderr, before the report.
+fn root_note(roots: &[foldcheck::root::CampaignRoot]) {
+    let cwd = campaign::absolute(std::path::Path::new("."));
+    for r in roots.iter().take(3) {
+        eprintln!(
+            "foldcheck: note: no foldcheck.toml found; campaign root `{}` ({})",
+            campaign::relative_path(&cwd, &r.dir),
+            r.describe()
+        );
+    }
+    if roots.len() > 3 {
+        eprintln!(
+            "foldcheck: note: and {} more campaign roots without foldcheck.toml",
+            roots.len() - 3
+        );
+    }
 }
 
 fn severity(f: FailOn) -> Severity {

@@ -15,6 +15,7 @@ pub mod lsp;
 pub mod model;
 pub mod report;
 pub mod resolve;
+pub mod root;
 pub mod rules;
 pub mod settings;
 pub mod signal;

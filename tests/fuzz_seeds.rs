@@ -53,7 +53,7 @@ fn lint_text_reports_a_seeded_fault_like_the_file() {
     let dir = std::env::temp_dir().join(format!("foldcheck-seed-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
     let path = dir.join("faulty.rig.yaml");
-    let text = "format: 1\nrig: faulty\ninclude: [missing.yaml]\nclocks:\n  - name: osc\n    frequency: 44.1 kHz\nchannels:\n  - name: mic\n    clock: osc\n    band: 20 kHz\n  - name: spare\n    clock: oscc\n    band: 1 KHz\n";
+    let text = "format: 1\nrig: faulty\ninclude: [missing.yaml]\nclocks:\n  - name: osc\n    frequency: 44.1 kHz\nchannels:\n  - name: mic\n    clock: osc\n    band: 20 kHz\n  - name: spare\n    clock: oscc\n    band: 1 KHz\ngroups:\n  - { name: pair, channels: [mic, spar] }\n";
     std::fs::write(&path, text).unwrap();
     let out = campaign::run(std::slice::from_ref(&path), &Options::default()).unwrap();
     let (sources, findings) = lint_text(&path.to_string_lossy(), text);

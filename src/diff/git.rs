@@ -168,6 +168,10 @@ pub fn snapshot(top: &Path, commit: &str, named: &[PathBuf]) -> Result<Snapshot,
         }
     }
     let snap = Snapshot::create()?;
+    // Mark the snapshot as a work tree's top, so that a file's campaign root (src/root.rs)
+    // is found at the same place on both sides when no foldcheck.toml chooses it.
+    std::fs::create_dir(snap.path().join(".git"))
+        .map_err(|e| format!("cannot write into {}: {e}", snap.path().display()))?;
     write_blobs(top, &blobs, snap.path())?;
     Ok(snap)
 }

@@ -284,7 +284,7 @@ fn catalog_paths(out: &Outcome) -> HashSet<PathBuf> {
 fn roots_of(out: &Outcome) -> Vec<(PathBuf, PathBuf)> {
     let mut v = Vec::new();
     for r in &out.rigs {
-        let root = &out.jobs[r.job].root;
+        let root = &out.jobs[r.job].root.dir;
         let root = std::fs::canonicalize(root).unwrap_or_else(|_| root.clone());
         v.push((absolute(&out.sources.get(r.file).path), root.clone()));
         for &f in &r.includes {

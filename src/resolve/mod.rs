@@ -249,6 +249,10 @@ pub fn closest_unambiguous<'a>(
 struct Names<'a> {
     section: &'static str,
     seen: HashMap<&'a str, (usize, Span)>,
+    /// A failed include might have defined names of this section: a miss is recorded
+    /// in `deferred` instead of being reported.
+    open: bool,
+    deferred: std::cell::RefCell<Vec<Span>>,
 }
 
 impl<'a> Names<'a> {
@@ -256,6 +260,8 @@ impl<'a> Names<'a> {
         Names {
             section,
             seen: HashMap::new(),
+            open: false,
+            deferred: std::cell::RefCell::new(Vec::new()),
         }
     }
 
@@ -291,6 +297,10 @@ impl<'a> Names<'a> {
     fn lookup(&self, what: &str, r: &Sp<String>, out: &mut Vec<Finding>) -> Option<usize> {
         if let Some(i) = self.get(&r.value) {
             return Some(i);
+        }
+        if self.open {
+            self.deferred.borrow_mut().push(r.span);
+            return None;
         }
         let mut f = Finding::new(
             "unknown-reference",
@@ -345,6 +355,28 @@ impl<'a> Names<'a> {
 /// Resolve a rig. `docs[0]` is the rig file; the rest are the catalogs it includes
 /// (in include order). Returns the rig and the resolution findings.
 pub fn resolve(docs: &[&Document], settings: &ThresholdSettings) -> (Rig, Vec<Finding>) {
+    let (rig, out, _) = resolve_incomplete(docs, settings, false);
+    (rig, out)
+}
+
+/// What resolution left unchecked because an include failed.
+#[derive(Clone, Debug, Default, PartialEq, Eq)]
+pub struct Unchecked {
+    /// References to clocks, sensors or modules that are defined nowhere that was read.
+    pub references: usize,
+    /// The channels left out because of them, in document order.
+    pub channels: Vec<String>,
+}
+
+/// As [`resolve`], for a rig one of whose includes failed (`incomplete`): references
+/// to clocks, sensors and modules that nothing read defines are not reported one by one
+/// (the failed include may define them) but counted, with the channels they leave out
+/// (docs/format.md, "include").
+pub fn resolve_incomplete(
+    docs: &[&Document],
+    settings: &ThresholdSettings,
+    incomplete: bool,
+) -> (Rig, Vec<Finding>, Unchecked) {
     let mut out = Vec::new();
     let rig_doc = docs[0];
 
@@ -357,6 +389,9 @@ pub fn resolve(docs: &[&Document], settings: &ThresholdSettings) -> (Rig, Vec<Fi
     let mut sensors: Vec<Sensor> = Vec::new();
     let mut module_names = Names::new("module");
     let mut modules: Vec<Module> = Vec::new();
+    clock_names.open = incomplete;
+    sensor_names.open = incomplete;
+    module_names.open = incomplete;
     for doc in &order {
         for c in &doc.clocks {
             if clock_names.add(&c.name, clocks_def.len(), &mut out) {
@@ -641,7 +676,51 @@ pub fn resolve(docs: &[&Document], settings: &ThresholdSettings) -> (Rig, Vec<Fi
             }
         }
     }
-    (rig, out)
+    let unchecked = unchecked(
+        &rig,
+        &[&clock_names, &sensor_names, &module_names],
+        &rig_doc.channels,
+    );
+    (rig, out, unchecked)
+}
+
+/// The references deferred because of a failed include, and the channels they leave
+/// out: a channel with a deferred reference of its own, or whose clock derives from a
+/// clock with a deferred `source`.
+fn unchecked(rig: &Rig, names: &[&Names], defs: &[Channel]) -> Unchecked {
+    let deferred: Vec<Span> = names
+        .iter()
+        .flat_map(|n| n.deferred.borrow().clone())
+        .collect();
+    if deferred.is_empty() {
+        return Unchecked::default();
+    }
+    let clock_open = |k: usize| {
+        rig.clock_path(k)
+            .iter()
+            .any(|&c| match &rig.clocks[c].def.def {
+                ClockDef::Derived { source, .. } => deferred.contains(&source.span),
+                _ => false,
+            })
+    };
+    let mut channels = Vec::new();
+    for c in defs {
+        let own = [&c.clock, &c.sensor, &c.module]
+            .into_iter()
+            .flatten()
+            .any(|r| deferred.contains(&r.span));
+        let via_clock = rig
+            .channel(&c.name.value)
+            .and_then(|i| rig.channels[i].clock)
+            .is_some_and(clock_open);
+        if (own || via_clock) && !channels.contains(&c.name.value) {
+            channels.push(c.name.value.clone());
+        }
+    }
+    Unchecked {
+        references: deferred.len(),
+        channels,
+    }
 }
 
 /// A clock's rate for messages, or "an unknown rate".
