@@ -326,6 +326,12 @@ pub fn format_db(db: f64) -> String {
     }
 }
 
+/// A required attenuation for messages: `98.08 dB`. Never capped (docs/model.md §6): a
+/// requirement is shown as configured, however large.
+pub fn format_required_db(db: f64) -> String {
+    format!("{:.2} dB", if db.abs() < 0.005 { 0.0 } else { db })
+}
+
 /// Round to a number of decimals, for JSON values that users compare by eye.
 pub fn round_to(x: f64, decimals: i32) -> f64 {
     let p = 10f64.powi(decimals);
@@ -343,5 +349,7 @@ mod tests {
         assert_eq!(finite(1e6), 1e6);
         assert_eq!(format_db(f64::INFINITY), "> 300 dB");
         assert_eq!(format_db(11.974), "11.97 dB");
+        assert_eq!(format_db(-0.001), "0.00 dB");
+        assert_eq!(format_required_db(320.0), "320.00 dB");
     }
 }
