@@ -169,7 +169,10 @@ pub enum Command {
     /// Print the JSON Schema of the rig format.
     Schema {
         /// Print the schema of foldcheck.toml instead.
-        #[arg(long)]
+        #[arg(long, conflicts_with = "output")]
         settings: bool,
+        /// Print the schema of `check --format json` output instead (docs/output.md).
+        #[arg(long)]
+        output: bool,
     },
 }

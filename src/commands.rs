@@ -214,9 +214,11 @@ pub fn run(command: Command) -> Outcome {
                 }
             },
         },
-        Command::Schema { settings } => {
+        Command::Schema { settings, output } => {
             let s = if settings {
                 foldcheck::settings::SETTINGS_SCHEMA
+            } else if output {
+                foldcheck::report::json::OUTPUT_SCHEMA
             } else {
                 foldcheck::model::schema::RIG_SCHEMA
             };

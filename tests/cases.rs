@@ -3,7 +3,8 @@
 //! report), and `<case>.human`, the whole human report as a person reads it (every
 //! excerpt, label and help line; the elapsed time in the summary is masked). Run with
 //! `FOLDCHECK_UPDATE=1 cargo test --test cases` to rewrite the expected files; review
-//! the diff before committing.
+//! the diff before committing. Every JSON report is also validated against
+//! `schemas/output.schema.json` (docs/output.md).
 
 mod common;
 
@@ -47,6 +48,7 @@ fn every_case_matches_its_expected_findings() {
     let update = std::env::var_os("FOLDCHECK_UPDATE").is_some();
     let mut failures = Vec::new();
     let cases = case_files(&root);
+    let output_schema = common::output_schema();
     assert!(
         cases.len() >= 22,
         "expected a case for every rule, found {} cases",
@@ -59,6 +61,12 @@ fn every_case_matches_its_expected_findings() {
             .to_string_lossy()
             .replace('\\', "/");
         let (report, code) = common::check_json(&root, &[&rel]);
+        if let Err(e) = output_schema.validate(&report) {
+            failures.push(format!(
+                "{rel}: the JSON report breaks schemas/output.schema.json: {e} at {}",
+                e.instance_path()
+            ));
+        }
         let mut actual: String = report["findings"]
             .as_array()
             .unwrap()

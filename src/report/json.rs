@@ -5,6 +5,9 @@ use crate::finding::{Finding, Fix};
 use crate::source::Sources;
 use serde_json::{Map, Value, json};
 
+/// The JSON Schema of this report (`foldcheck schema --output`; docs/output.md).
+pub const OUTPUT_SCHEMA: &str = include_str!("../../schemas/output.schema.json");
+
 /// One finding as a JSON object.
 pub fn finding(sources: &Sources, f: &Finding) -> Value {
     let file = sources.get(f.primary.span.file);
@@ -18,9 +21,8 @@ pub fn finding(sources: &Sources, f: &Finding) -> Value {
     o.insert("column".into(), json!(column));
     o.insert("end_line".into(), json!(end_line));
     o.insert("end_column".into(), json!(end_column));
-    if let Some(c) = &f.channel {
-        o.insert("channel".into(), json!(c));
-    }
+    // Always present: null when the finding concerns no single channel.
+    o.insert("channel".into(), json!(f.channel));
     o.insert("message".into(), json!(f.message));
     if let Some(h) = &f.help {
         o.insert("help".into(), json!(h));

@@ -203,3 +203,12 @@ impl LspClient {
 pub fn file_uri(p: &Path) -> String {
     format!("file://{}", p.display())
 }
+
+/// The validator of `schemas/output.schema.json`, the contract of `check --format json`
+/// (docs/output.md).
+#[allow(dead_code)]
+pub fn output_schema() -> jsonschema::Validator {
+    let schema: Value =
+        serde_json::from_str(foldcheck::report::json::OUTPUT_SCHEMA).expect("the schema is JSON");
+    jsonschema::draft202012::new(&schema).expect("a valid 2020-12 schema")
+}
