@@ -1,4 +1,4 @@
-//! Fixes (docs/output.md, README "Fixing findings"): every fix the tool emits is checked
+//! Fixes (README, "Fixing findings"): every fix the tool emits is checked
 //! by applying it outside the tool, and `foldcheck fix` is checked on real files (line
 //! endings, byte-order mark, dry-run patches, idempotence, shared catalogs, links).
 

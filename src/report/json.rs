@@ -42,7 +42,7 @@ pub fn finding(sources: &Sources, f: &Finding) -> Value {
     Value::Object(o)
 }
 
-/// A fix's edits as JSON (docs/output.md): `file`, byte offsets `start` and `end` (end
+/// A fix's edits as JSON (README, "Fixing findings"): `file`, byte offsets `start` and `end` (end
 /// exclusive), 1-based `line`, `column`, `end_line`, `end_column` (columns count
 /// characters) and the `replacement` text; in file and offset order.
 pub fn fix_edits(sources: &Sources, fix: &Fix) -> Vec<Value> {
