@@ -175,4 +175,12 @@ pub enum Command {
         #[arg(long)]
         output: bool,
     },
+    /// Print a shell completion script (see the README for where to put it).
+    Completions {
+        /// The shell.
+        #[arg(value_enum)]
+        shell: clap_complete::Shell,
+    },
+    /// Print the manual page (roff), e.g. `foldcheck man > foldcheck.1`.
+    Man,
 }

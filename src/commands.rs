@@ -214,6 +214,17 @@ pub fn run(command: Command) -> Outcome {
                 }
             },
         },
+        Command::Completions { shell } => {
+            let mut cmd = <crate::cli::Cli as clap::CommandFactory>::command();
+            let mut buf = Vec::new();
+            clap_complete::generate(shell, &mut cmd, "foldcheck", &mut buf);
+            String::from_utf8(buf)
+                .map(|s| (s, 0))
+                .map_err(|e| format!("foldcheck: the completion script is not UTF-8: {e}"))
+        }
+        Command::Man => man_page()
+            .map(|s| (s, 0))
+            .map_err(|e| format!("foldcheck: cannot render the manual page: {e}")),
         Command::Schema { settings, output } => {
             let s = if settings {
                 foldcheck::settings::SETTINGS_SCHEMA
@@ -289,6 +300,52 @@ fn root_note(roots: &[foldcheck::root::CampaignRoot]) {
             "foldcheck: note: and {} more campaign roots without foldcheck.toml",
             roots.len() - 3
         );
+    }
+}
+
+/// One manual page for the whole tool: name, synopsis, description and options, then a
+/// section per subcommand with its synopsis and options (no separate pages to install).
+fn man_page() -> Result<String, std::io::Error> {
+    let cmd = <crate::cli::Cli as clap::CommandFactory>::command();
+    let man = clap_mangen::Man::new(cmd.clone());
+    let mut buf = Vec::new();
+    man.render_title(&mut buf)?;
+    man.render_name_section(&mut buf)?;
+    man.render_synopsis_section(&mut buf)?;
+    man.render_description_section(&mut buf)?;
+    man.render_options_section(&mut buf)?;
+    for sub in cmd.get_subcommands().filter(|s| !s.is_hide_set()) {
+        let name = sub.get_name().to_string();
+        let about = sub.get_about().map(|a| a.to_string()).unwrap_or_default();
+        let sub = sub.clone().bin_name(format!("foldcheck {name}"));
+        let mut part = Vec::new();
+        let m = clap_mangen::Man::new(sub);
+        m.render_synopsis_section(&mut part)?;
+        m.render_options_section(&mut part)?;
+        let part = String::from_utf8_lossy(&part)
+            .replace(".SH SYNOPSIS", ".SS Synopsis")
+            .replace(".SH OPTIONS", ".SS Options");
+        buf.extend_from_slice(
+            format!(
+                ".SH \"FOLDCHECK {}\"\n{}\n",
+                name.to_uppercase(),
+                roff_escape(&about)
+            )
+            .as_bytes(),
+        );
+        buf.extend_from_slice(part.as_bytes());
+    }
+    man.render_version_section(&mut buf)?;
+    String::from_utf8(buf).map_err(std::io::Error::other)
+}
+
+/// Text safe for a roff line: backslashes and hyphens escaped, no leading dot or quote.
+fn roff_escape(text: &str) -> String {
+    let t = text.replace('\\', "\\e").replace('-', "\\-");
+    if t.starts_with('.') || t.starts_with('\'') {
+        format!("\\&{t}")
+    } else {
+        t
     }
 }
 
