@@ -907,7 +907,14 @@ fn lint_loaded(ctx: &Ctx, job: &Job, keep: bool, mut loaded: Loaded) -> RigResul
         resolve::resolve_incomplete(&docs, &job.settings.thresholds, !failed.is_empty());
     report_unchecked(&mut out, &failed, &unchecked);
     out.extend(resolve_findings);
-    out.extend(crate::rules::check_rig(&rig));
+    // One analysis per channel; rules whose level is `off` are neither computed nor run.
+    let on = |rule: &str| {
+        crate::rules::rule(rule).is_none_or(|r| job.settings.level(rule, r.severity) != Level::Off)
+    };
+    let actx = crate::analysis::Context::new(crate::analysis::Enabled::from_fn(on));
+    let analysis = crate::analysis::analyse_rig(&rig, &actx);
+    out.extend(crate::rules::check_analysis(&analysis, on));
+    drop(analysis);
     // The rig's model is not needed past its rules: dropping it here keeps a campaign's
     // memory to its texts and findings, not every rig's model at once.
     drop(doc);

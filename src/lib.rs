@@ -3,9 +3,10 @@
 //!
 //! The pipeline runs one way: source → YAML tree with spans ([`source`]) → typed rig
 //! model ([`model`]) → resolved model: references, clock rates, chains ([`resolve`]) →
-//! rules ([`rules`]) → findings ([`finding`]) → renderers ([`report`]). [`campaign`]
+//! one analysis per channel ([`analysis`]) → rules ([`rules`]) → findings ([`finding`]) → renderers ([`report`]). [`campaign`]
 //! drives it over files and directories.
 
+pub mod analysis;
 pub mod campaign;
 pub mod diff;
 pub mod finding;

@@ -16,14 +16,14 @@
 mod git;
 mod render;
 
+use crate::analysis;
 use crate::campaign::{self, Fatal, Options, Outcome, RigOutcome};
 use crate::finding::{ATTENUATION_CEILING_DB, Finding, Severity, finite};
-use crate::model::quantity::{Exact, to_f64};
+use crate::model::quantity::Exact;
 use crate::model::{Filter, Module, Response, Sensor, Sp};
-use crate::resolve::chain::Chain;
 use crate::resolve::{RChannel, Rig};
 use crate::source::FileId;
-use num_traits::{CheckedDiv, CheckedMul, CheckedSub};
+use num_traits::CheckedDiv;
 use serde_json::Value;
 use std::collections::{BTreeMap, BTreeSet, HashMap};
 use std::path::{Component, Path, PathBuf};
@@ -137,8 +137,9 @@ impl Status {
     }
 }
 
-/// The worst alias attenuation of a channel: the lowest, over the rate changes that
-/// sample above twice the band, of the chain's attenuation at `fs − B`.
+/// The worst alias check of a channel: the lowest, over its checked rate changes, of
+/// the attenuation at `fs − B` and the net attenuation of a sensor resonance that
+/// folds into the band (read from the analysis).
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Alias {
     /// Attenuation in dB (clamped at [`ATTENUATION_CEILING_DB`]).
@@ -167,36 +168,32 @@ pub struct Metrics {
 }
 
 impl Metrics {
-    /// Work out a channel's numbers.
-    pub fn of(rig: &Rig, ch: &RChannel) -> Metrics {
+    /// A channel's numbers, read from its analysis (the same one the rules read):
+    /// the worst alias check counts a sensor resonance that folds into the band.
+    pub fn of(rig: &Rig, index: usize) -> Metrics {
+        let ch = &rig.channels[index];
         let clock = ch.clock.map(|k| rig.clocks[k].def.name.value.clone());
         let band = ch.band.as_ref().map(|b| b.hz);
-        let chain = Chain::new(rig, ch);
-        let final_rate = chain.as_ref().map(Chain::final_rate);
-        // Checked arithmetic: exact rationals of absurd rigs must not overflow into a panic.
-        let positive = |b: &Exact| *b > Exact::from_integer(0);
-        let ratio = match (final_rate, band) {
-            (Some(f), Some(b)) if positive(&b) => f.checked_div(&b),
-            _ => None,
+        let ctx = analysis::Context::default().with_fixes(false);
+        let a = analysis::analyse_channel(rig, index, &ctx);
+        let rates = a.rates.as_ref().ok();
+        // A channel that did not resolve still has a final rate when its clock has one.
+        let final_rate = rates.map(|r| r.final_rate).or_else(|| {
+            let fs0 = rig.adc_rate(ch)?;
+            crate::resolve::chain::Chain::with_adc_rate(rig, ch, fs0).map(|c| c.final_rate())
+        });
+        let ratio = match rates {
+            Some(r) => r.final_ratio_exact,
+            None => match (final_rate, band) {
+                (Some(f), Some(b)) if b > Exact::from_integer(0) => f.checked_div(&b),
+                _ => None,
+            },
         };
-        let two_b = band.and_then(|b| b.checked_mul(&Exact::from_integer(2)));
-        let alias = match (&chain, band, two_b) {
-            (Some(chain), Some(b), Some(two_b)) if positive(&b) => chain
-                .changes
-                .iter()
-                .filter(|rc| rc.fs > two_b)
-                .filter_map(|rc| {
-                    let fold_from_hz = to_f64(&rc.fs.checked_sub(&b)?);
-                    Some(Alias {
-                        attenuation_db: finite(chain.attenuation_db(fold_from_hz, rc.stage))
-                            .min(ATTENUATION_CEILING_DB),
-                        stage: rc.stage,
-                        fold_from_hz,
-                    })
-                })
-                .min_by(|a, b| a.attenuation_db.total_cmp(&b.attenuation_db)),
-            _ => None,
-        };
+        let alias = rates.and_then(|r| r.worst_fold()).map(|w| Alias {
+            attenuation_db: finite(w.attenuation_db).min(ATTENUATION_CEILING_DB),
+            stage: w.stage,
+            fold_from_hz: w.fold_from_hz,
+        });
         Metrics {
             clock,
             final_rate,
@@ -682,8 +679,9 @@ fn one_sided(rig: &Rig, file: &str, status: Status) -> Vec<ChannelChange> {
     let mut v: Vec<ChannelChange> = rig
         .channels
         .iter()
-        .map(|ch| {
-            let m = Metrics::of(rig, ch);
+        .enumerate()
+        .map(|(i, ch)| {
+            let m = Metrics::of(rig, i);
             ChannelChange {
                 rig: file.to_string(),
                 name: ch.def.name.value.clone(),
@@ -718,8 +716,8 @@ fn compare_channels(
     let (om, nm) = (by_name(orig), by_name(nrig));
     let names: BTreeSet<&String> = om.keys().chain(nm.keys()).collect();
     for name in names {
-        let before = om.get(name).map(|&i| Metrics::of(orig, &orig.channels[i]));
-        let after = nm.get(name).map(|&i| Metrics::of(nrig, &nrig.channels[i]));
+        let before = om.get(name).map(|&i| Metrics::of(orig, i));
+        let after = nm.get(name).map(|&i| Metrics::of(nrig, i));
         let change = match (om.get(name), nm.get(name)) {
             (Some(&oi), Some(&ni)) => {
                 let (a, b) = (before.as_ref().expect("old"), after.as_ref().expect("new"));

@@ -164,7 +164,7 @@ pub fn render(ins: &Inspection, plot: Option<&str>) -> String {
                     "filter": s.filter,
                     "ratio": num(s.ratio),
                     "nyquist": s.nyquist_ok,
-                    "margin": { "value": num(s.margin.0), "pass": s.margin.1 },
+                    "margin": s.margin.map(|(m, pass)| json!({ "value": num(m), "pass": pass })),
                     "checked": s.checked,
                     "alias": s.alias.as_ref().map(|al| json!({
                         "fold_from_hz": num(al.fold_from_hz),
@@ -230,20 +230,32 @@ pub fn render(ins: &Inspection, plot: Option<&str>) -> String {
             "band_hz": num(a.band_hz),
             "rate_changes": stages,
             "disturbances": disturbances,
-            "passband": {
+            "passband": a.passband.as_ref().map(|p| json!({
                 "band_hz": num(a.band_hz),
-                "attenuation_db": num(a.passband.attenuation_db),
-                "contributions": contributions(&a.passband.contributions),
-                "tolerance_db": num(a.passband.tolerance_db),
-                "pass": a.passband.pass,
-            },
+                "attenuation_db": num(p.attenuation_db),
+                "contributions": contributions(&p.contributions),
+                "tolerance_db": num(p.tolerance_db),
+                "pass": p.pass,
+            })),
             "phase_at_band_deg": num(a.phase_at_band_deg),
             "final_rate_hz": num(a.final_rate_hz),
             "final_ratio": num(a.final_ratio),
-            "oversampling": { "limit": num(a.oversampling.0), "pass": a.oversampling.1 },
+            "oversampling": a.oversampling.as_ref().map(|o| json!({ "limit": num(o.limit), "pass": o.pass })),
             "data_rate_bytes_per_s": num(a.data_rate_bytes_per_s),
         })
     });
+    let verdicts: Vec<Value> = ins
+        .verdicts
+        .iter()
+        .map(|v| {
+            json!({
+                "rule": v.rule,
+                "pass": v.pass,
+                "stage": v.stage,
+                "about": v.about,
+            })
+        })
+        .collect();
     let findings: Vec<Value> = ins
         .findings
         .iter()
@@ -278,6 +290,17 @@ pub fn render(ins: &Inspection, plot: Option<&str>) -> String {
         "sample_bits": ins.sample_bits,
         "analysis": analysis,
         "unanalysed_because": ins.no_analysis,
+        "verdicts": verdicts,
+        "fix": ins.fix.as_ref().map(|f| json!({
+            "description": f.description,
+            "help": f.help,
+            "edits": f.edits.iter().map(|e| json!({
+                "file": e.file,
+                "start": e.start,
+                "end": e.end,
+                "replacement": e.replacement,
+            })).collect::<Vec<_>>(),
+        })),
         "findings": findings,
         "plot": plot,
     });

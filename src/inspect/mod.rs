@@ -12,6 +12,7 @@ pub mod json;
 pub mod plot;
 pub mod text;
 
+use crate::analysis::{self, Context, Enabled, Verdict};
 use crate::campaign::{self, Options};
 use crate::finding::{Finding, Severity};
 use crate::model::quantity::{self, Exact, Kind, format_hz, to_f64};
@@ -19,7 +20,6 @@ use crate::model::{ClockDef, Filter};
 use crate::resolve::chain::Chain;
 use crate::resolve::{self, Origin, RChannel, Rig, ThresholdSettings};
 use crate::settings;
-use crate::signal::fold::fold;
 use crate::source::{Sources, Span};
 use std::path::{Path, PathBuf};
 
@@ -124,7 +124,10 @@ fn unknown_channel(rig: &Rig, name: &str) -> String {
 
 /// The settings file that applies to `file` (named or discovered) and its thresholds, for
 /// saying where each threshold comes from. The campaign run has already checked it.
-fn settings_thresholds(file: &Path, named: Option<&Path>) -> (Option<String>, ThresholdSettings) {
+fn settings_thresholds(
+    file: &Path,
+    named: Option<&Path>,
+) -> (Option<String>, ThresholdSettings, Enabled) {
     let path = match named {
         Some(p) => Some(p.to_path_buf()),
         None => {
@@ -136,8 +139,14 @@ fn settings_thresholds(file: &Path, named: Option<&Path>) -> (Option<String>, Th
         }
     };
     match path.and_then(|p| settings::load(&p).ok().map(|s| (p, s))) {
-        Some((p, s)) => (Some(p.display().to_string()), s.thresholds),
-        None => (None, ThresholdSettings::default()),
+        Some((p, s)) => {
+            let enabled = Enabled::from_fn(|rule| {
+                crate::rules::rule(rule)
+                    .is_none_or(|r| s.level(rule, r.severity) != settings::Level::Off)
+            });
+            (Some(p.display().to_string()), s.thresholds, enabled)
+        }
+        None => (None, ThresholdSettings::default(), Enabled::ALL),
     }
 }
 
@@ -178,9 +187,38 @@ pub struct Inspection {
     pub analysis: Option<Analysis>,
     /// Why there is no analysis, when there is none.
     pub no_analysis: Option<String>,
+    /// Every computed rule verdict of the channel (a failing one is a finding of
+    /// `check`, same rule and stage).
+    pub verdicts: Vec<Verdict>,
+    /// The channel's fix candidate, as the analysis confirmed it.
+    pub fix: Option<FixInfo>,
     /// The findings of the same run about the channel, or inside its item or the items
     /// of the clocks on its path, its sensor and its module, in output order.
     pub findings: Vec<FindingInfo>,
+}
+
+/// A fix candidate, for showing.
+#[derive(Clone, Debug)]
+pub struct FixInfo {
+    /// What it does.
+    pub description: String,
+    /// The help line built from it.
+    pub help: String,
+    /// Its edits.
+    pub edits: Vec<EditInfo>,
+}
+
+/// One edit of a fix.
+#[derive(Clone, Debug)]
+pub struct EditInfo {
+    /// The file, as displayed.
+    pub file: String,
+    /// First byte.
+    pub start: usize,
+    /// Byte after the last.
+    pub end: usize,
+    /// The new text.
+    pub replacement: String,
 }
 
 /// A value and where it comes from.
@@ -285,181 +323,6 @@ pub struct FilterInfo {
     pub description: String,
 }
 
-/// The rate analysis of a resolved channel.
-#[derive(Clone, Debug)]
-pub struct Analysis {
-    /// The band B in Hz.
-    pub band_hz: f64,
-    /// Each rate change, the ADC first.
-    pub stages: Vec<StageInfo>,
-    /// Each disturbance that reaches the channel.
-    pub disturbances: Vec<DisturbanceInfo>,
-    /// Attenuation of the whole chain at the band edge.
-    pub passband: PassbandInfo,
-    /// Phase of the whole chain at the band edge, degrees.
-    pub phase_at_band_deg: f64,
-    /// The final rate after the last stage, Hz.
-    pub final_rate_hz: f64,
-    /// Final rate ÷ band.
-    pub final_ratio: f64,
-    /// The oversampling limit and whether the final ratio is within it.
-    pub oversampling: (f64, bool),
-    /// Final rate × sample bits ÷ 8.
-    pub data_rate_bytes_per_s: f64,
-}
-
-/// One rate change.
-#[derive(Clone, Debug)]
-pub struct StageInfo {
-    /// 0 for the ADC, k for the k-th decimation stage.
-    pub stage: usize,
-    /// Decimation factor (1 for the ADC).
-    pub factor: u32,
-    /// Input rate in Hz (None for the ADC).
-    pub input_rate_hz: Option<f64>,
-    /// Output rate, exact.
-    pub rate: Exact,
-    /// The stage's own filter (None for the ADC, or plain down-sampling).
-    pub filter: Option<String>,
-    /// Output rate ÷ band.
-    pub ratio: f64,
-    /// fs > 2·B.
-    pub nyquist_ok: bool,
-    /// The practical margin, and whether the ratio reaches it.
-    pub margin: (f64, bool),
-    /// False when an earlier rate change already fails `nyquist` (the rules stop there).
-    pub checked: bool,
-    /// The alias check at fs − B (None when fs ≤ 2·B or not checked).
-    pub alias: Option<AliasCheck>,
-    /// Where the sensor resonance goes at this rate change.
-    pub resonance: Option<ResonanceCheck>,
-}
-
-impl StageInfo {
-    /// Output rate in Hz.
-    pub fn rate_hz(&self) -> f64 {
-        to_f64(&self.rate)
-    }
-
-    /// "ADC" or "decimation stage k".
-    pub fn title(&self) -> String {
-        if self.stage == 0 {
-            "ADC".to_string()
-        } else {
-            format!("decimation stage {}", self.stage)
-        }
-    }
-}
-
-/// The check at the lowest folding frequency of one rate change.
-#[derive(Clone, Debug)]
-pub struct AliasCheck {
-    /// fs − B, Hz.
-    pub fold_from_hz: f64,
-    /// Attenuation of the chain up to this rate change there, dB (may be infinite).
-    pub attenuation_db: f64,
-    /// Each filter's share.
-    pub contributions: Vec<(String, f64)>,
-    /// Required rejection, dB.
-    pub required_db: f64,
-    /// attenuation ≥ required.
-    pub pass: bool,
-}
-
-/// Where the sensor resonance lands at one rate change.
-#[derive(Clone, Debug)]
-pub struct ResonanceCheck {
-    /// The resonance frequency, Hz.
-    pub frequency_hz: f64,
-    /// Its gain, dB.
-    pub gain_db: f64,
-    /// Where it sits before this rate change (after the earlier ones), Hz.
-    pub arrives_at_hz: f64,
-    /// Where it lands after this rate change, Hz.
-    pub lands_at_hz: f64,
-    /// It folds into the band at this rate change.
-    pub folds_into_band: bool,
-    /// Chain attenuation at the resonance up to this rate change, dB.
-    pub attenuation_db: f64,
-    /// Attenuation less the gain, dB.
-    pub net_db: f64,
-    /// Required rejection, dB.
-    pub required_db: f64,
-    /// Net ≥ required, when it folds into the band here and the stage is checked.
-    pub pass: Option<bool>,
-}
-
-/// A disturbance tone that reaches the channel.
-#[derive(Clone, Debug)]
-pub struct DisturbanceInfo {
-    /// Its name.
-    pub name: String,
-    /// Its frequency, Hz.
-    pub frequency_hz: f64,
-    /// How far it stands above broadband content, dB.
-    pub level_db: f64,
-    /// Required rejection plus level, dB.
-    pub required_db: f64,
-    /// Where it goes at each rate change, until it lands in the band.
-    pub steps: Vec<DisturbanceStep>,
-    /// What happens to it overall.
-    pub outcome: DisturbanceOutcome,
-}
-
-/// One rate change seen by a disturbance.
-#[derive(Clone, Debug)]
-pub struct DisturbanceStep {
-    /// 0 for the ADC, k for the k-th decimation stage.
-    pub stage: usize,
-    /// The output rate, Hz.
-    pub rate_hz: f64,
-    /// Where the tone sits before this rate change, Hz.
-    pub from_hz: f64,
-    /// Where it lands after it, Hz.
-    pub lands_at_hz: f64,
-    /// It lies above half the rate, so it folds.
-    pub folds: bool,
-    /// It lands inside [0, B].
-    pub in_band: bool,
-    /// Chain attenuation at the tone up to this rate change, dB.
-    pub attenuation_db: f64,
-}
-
-/// What happens to a disturbance.
-#[derive(Clone, Debug, PartialEq)]
-pub enum DisturbanceOutcome {
-    /// The tone lies inside the band itself: it is measured, not aliased.
-    InBand,
-    /// It folds into the band at this stage, with this verdict (attenuation ≥ required).
-    FoldsIn {
-        /// The rate change.
-        stage: usize,
-        /// attenuation ≥ required.
-        pass: bool,
-    },
-    /// It never lands in the band.
-    StaysOut,
-    /// The rate at this stage is not above twice the band (`nyquist`), so the tone is
-    /// not followed further.
-    NotChecked {
-        /// The rate change that fails `nyquist`.
-        stage: usize,
-    },
-}
-
-/// The chain's attenuation at the band edge.
-#[derive(Clone, Debug)]
-pub struct PassbandInfo {
-    /// dB.
-    pub attenuation_db: f64,
-    /// Each filter's share.
-    pub contributions: Vec<(String, f64)>,
-    /// The passband tolerance, dB.
-    pub tolerance_db: f64,
-    /// attenuation ≤ tolerance.
-    pub pass: bool,
-}
-
 /// One of the channel's findings.
 #[derive(Clone, Debug)]
 pub struct FindingInfo {
@@ -480,6 +343,11 @@ pub struct FindingInfo {
     /// The reason of the suppression that covers it.
     pub suppressed: Option<String>,
 }
+
+pub use crate::analysis::{
+    AliasCheck, DisturbanceInfo, DisturbanceOutcome, DisturbanceStep, PassbandInfo,
+    RateAnalysis as Analysis, ResonanceCheck, StageInfo,
+};
 
 /// An attenuation for labels: `11.97 dB`, `90 dB`, `> 300 dB`.
 pub fn db_text(db: f64) -> String {
@@ -587,10 +455,7 @@ fn chain_filters(rig: &Rig, ch: &RChannel) -> Vec<FilterInfo> {
                 .map(|f| filter_info("sensor response", 0, f)),
         );
     }
-    let adc_place = match ch.filters_span {
-        Some((_, o)) if o.contains("module") => "module filter",
-        _ => "channel filter",
-    };
+    let adc_place = ch.filters_origin.place();
     filters.extend(ch.filters.iter().map(|f| filter_info(adc_place, 0, f)));
     for (k, st) in ch.def.decimate.iter().enumerate() {
         if let Some(f) = &st.filter {
@@ -621,10 +486,10 @@ pub fn inspect(
     ci: usize,
     sources: &Sources,
     findings: &[Finding],
-    settings: &(Option<String>, ThresholdSettings),
+    settings: &(Option<String>, ThresholdSettings, Enabled),
 ) -> Inspection {
     let ch = &rig.channels[ci];
-    let (settings_path, set) = (settings.0.as_deref(), &settings.1);
+    let (settings_path, set, enabled) = (settings.0.as_deref(), &settings.1, settings.2);
 
     let clock = ch.def.clock.as_ref().map(|c| match ch.clock {
         Some(k) => {
@@ -774,9 +639,25 @@ pub fn inspect(
         },
     ];
 
-    let (analysis, no_analysis) = match analyse(rig, ci) {
+    let ca = analysis::analyse_channel(rig, ci, &Context::new(enabled));
+    let verdicts = ca.verdicts();
+    let fix = ca.fix.as_ref().map(|f| FixInfo {
+        description: f.description.clone(),
+        help: f.help.clone(),
+        edits: f
+            .edits
+            .iter()
+            .map(|e| EditInfo {
+                file: sources.get(e.span.file).display.clone(),
+                start: e.span.start as usize,
+                end: e.span.end as usize,
+                replacement: e.replacement.clone(),
+            })
+            .collect(),
+    });
+    let (analysis, no_analysis) = match ca.rates {
         Ok(a) => (Some(a), None),
-        Err(why) => (None, Some(why)),
+        Err(why) => (None, Some(why.reason().to_string())),
     };
 
     Inspection {
@@ -797,186 +678,10 @@ pub fn inspect(
         sample_bits: ch.sample_bits,
         analysis,
         no_analysis,
+        verdicts,
+        fix,
         findings: channel_findings(rig, ch, sources, findings),
     }
-}
-
-/// The rate analysis, mirroring what the rules check (and where they stop).
-fn analyse(rig: &Rig, ci: usize) -> Result<Analysis, String> {
-    let ch = &rig.channels[ci];
-    if !ch.ok {
-        return Err(
-            "the channel did not resolve (a reference names nothing, a clock has no rate, or a value is broken), so its rates are not analysed"
-                .to_string(),
-        );
-    }
-    let Some(band) = ch.band.as_ref() else {
-        return Err(
-            "the channel has no `band` and its sensor no `bandwidth`, so nothing can be checked"
-                .to_string(),
-        );
-    };
-    let Some(chain) = Chain::new(rig, ch) else {
-        return Err("the channel's clock rate is unknown".to_string());
-    };
-    let band = to_f64(&band.hz);
-    let required = ch.rejection.0;
-    let margin = rig.thresholds.margin;
-    let resonance = ch
-        .sensor
-        .and_then(|s| rig.sensors[s].resonance.as_ref())
-        .map(|r| (r.frequency.value, r.gain.value));
-    // Each filter's share, named by its place in the chain ("decimation stage 2: …").
-    let names = chain_filters(rig, ch);
-    let contributions = |f: f64, k: usize| -> Vec<(String, f64)> {
-        let list = chain.contributions(f, k);
-        let same_order = list.len() <= names.len();
-        list.into_iter()
-            .enumerate()
-            .map(|(i, c)| match names.get(i).filter(|_| same_order) {
-                Some(n) => (format!("{}: {}", n.place, n.description), c.db),
-                None => (c.what, c.db),
-            })
-            .collect()
-    };
-
-    let mut stages = Vec::new();
-    let mut nyquist_failed = false;
-    for rc in &chain.changes {
-        let fs = rc.fs_hz();
-        let k = rc.stage;
-        let checked = !nyquist_failed;
-        let nyquist_ok = fs > 2.0 * band;
-        let alias = (checked && nyquist_ok).then(|| {
-            let f = fs - band;
-            let a = chain.attenuation_db(f, k);
-            AliasCheck {
-                fold_from_hz: f,
-                attenuation_db: a,
-                contributions: contributions(f, k),
-                required_db: required,
-                pass: a >= required,
-            }
-        });
-        let res = resonance.map(|(fr, gain)| {
-            let before = if k == 0 {
-                fr
-            } else {
-                chain.folded_through(fr, k - 1)
-            };
-            let after = fold(before, fs);
-            let folds_into_band = fr > band && before > band && after <= band;
-            let a = chain.attenuation_db(fr, k);
-            let net = a - gain;
-            ResonanceCheck {
-                frequency_hz: fr,
-                gain_db: gain,
-                arrives_at_hz: before,
-                lands_at_hz: after,
-                folds_into_band,
-                attenuation_db: a,
-                net_db: net,
-                required_db: required,
-                pass: (checked && nyquist_ok && folds_into_band).then_some(net >= required),
-            }
-        });
-        stages.push(StageInfo {
-            stage: k,
-            factor: rc.factor,
-            input_rate_hz: rc.fs_in.as_ref().map(to_f64),
-            rate: rc.fs,
-            filter: rc.filter.as_ref().map(|f| f.response.describe()),
-            ratio: fs / band,
-            nyquist_ok,
-            margin: (margin, fs >= margin * band),
-            checked,
-            alias,
-            resonance: res,
-        });
-        if !nyquist_ok {
-            nyquist_failed = true;
-        }
-    }
-
-    let mut disturbances = Vec::new();
-    for (di, d) in rig.disturbances.iter().enumerate() {
-        if !rig.disturbance_targets[di].contains(&ci) {
-            continue;
-        }
-        let Some(freq) = &d.frequency else { continue };
-        let fd = to_f64(&freq.value);
-        let level = d.level.as_ref().map_or(0.0, |l| l.value);
-        let req = required + level;
-        let mut steps = Vec::new();
-        let mut outcome = if fd <= band {
-            DisturbanceOutcome::InBand
-        } else {
-            DisturbanceOutcome::StaysOut
-        };
-        let mut at = fd;
-        if outcome != DisturbanceOutcome::InBand {
-            for rc in &chain.changes {
-                let fs = rc.fs_hz();
-                if fs <= 2.0 * band {
-                    // The rules stop here: nyquist reports the channel.
-                    outcome = DisturbanceOutcome::NotChecked { stage: rc.stage };
-                    break;
-                }
-                let folded = fold(at, fs);
-                let folds = at > fs / 2.0;
-                let in_band = folds && folded <= band;
-                let a = chain.attenuation_db(fd, rc.stage);
-                steps.push(DisturbanceStep {
-                    stage: rc.stage,
-                    rate_hz: fs,
-                    from_hz: at,
-                    lands_at_hz: folded,
-                    folds,
-                    in_band,
-                    attenuation_db: a,
-                });
-                if in_band {
-                    outcome = DisturbanceOutcome::FoldsIn {
-                        stage: rc.stage,
-                        pass: a >= req,
-                    };
-                    break;
-                }
-                at = folded;
-            }
-        }
-        disturbances.push(DisturbanceInfo {
-            name: d.name.value.clone(),
-            frequency_hz: fd,
-            level_db: level,
-            required_db: req,
-            steps,
-            outcome,
-        });
-    }
-
-    let last = chain.changes.len() - 1;
-    let droop = chain.attenuation_db(band, last);
-    let tolerance = rig.thresholds.passband_tolerance;
-    let final_rate = to_f64(&chain.final_rate());
-    let final_ratio = final_rate / band;
-    let limit = rig.thresholds.oversampling_limit;
-    Ok(Analysis {
-        band_hz: band,
-        stages,
-        disturbances,
-        passband: PassbandInfo {
-            attenuation_db: droop,
-            contributions: contributions(band, last),
-            tolerance_db: tolerance,
-            pass: droop <= tolerance + 1e-9,
-        },
-        phase_at_band_deg: chain.phase_deg(band),
-        final_rate_hz: final_rate,
-        final_ratio,
-        oversampling: (limit, final_ratio <= limit),
-        data_rate_bytes_per_s: final_rate * f64::from(ch.sample_bits) / 8.0,
-    })
 }
 
 /// What the plot shows, worked out here so that [`plot`] only draws.

@@ -280,21 +280,22 @@ pub fn render(ins: &Inspection, plot: Option<&str>) -> String {
                 }
             }
             out.push_str("\nband edge\n");
-            let p = &a.passband;
-            line(
-                &mut out,
-                2,
-                "passband",
-                &format!(
-                    "{} at {} (tolerance {} dB): {}",
-                    format_db(p.attenuation_db),
-                    format_hz(b),
-                    sig6(p.tolerance_db),
-                    verdict(p.pass)
-                ),
-            );
-            for (what, db) in p.contributions.iter().filter(|(_, db)| *db != 0.0) {
-                more(&mut out, 2, &format!("  {what}: {}", format_db(*db)));
+            if let Some(p) = &a.passband {
+                line(
+                    &mut out,
+                    2,
+                    "passband",
+                    &format!(
+                        "{} at {} (tolerance {} dB): {}",
+                        format_db(p.attenuation_db),
+                        format_hz(b),
+                        sig6(p.tolerance_db),
+                        verdict(p.pass)
+                    ),
+                );
+                for (what, db) in p.contributions.iter().filter(|(_, db)| *db != 0.0) {
+                    more(&mut out, 2, &format!("  {what}: {}", format_db(*db)));
+                }
             }
             line(
                 &mut out,
@@ -302,17 +303,22 @@ pub fn render(ins: &Inspection, plot: Option<&str>) -> String {
                 "phase",
                 &format!("{:.2} deg at {}", zero(a.phase_at_band_deg), format_hz(b)),
             );
-            let (limit, ok) = a.oversampling;
+            let limit = match &a.oversampling {
+                Some(o) => format!(
+                    " (oversampling limit {}: {})",
+                    sig6(o.limit),
+                    if o.pass { "pass" } else { "above it" }
+                ),
+                None => String::new(),
+            };
             line(
                 &mut out,
                 2,
                 "final rate",
                 &format!(
-                    "{}, ratio {} (oversampling limit {}: {})",
+                    "{}, ratio {}{limit}",
                     format_hz(a.final_rate_hz),
                     sig6(round4(a.final_ratio)),
-                    sig6(limit),
-                    if ok { "pass" } else { "above it" }
                 ),
             );
         }
@@ -383,18 +389,16 @@ fn stage(out: &mut String, s: &StageInfo, b: f64) {
         );
         return;
     }
-    let (margin, margin_ok) = s.margin;
     let nyq = if s.nyquist_ok {
         "above 2 (nyquist pass)".to_string()
     } else {
         "not above 2 (nyquist FAIL)".to_string()
     };
-    let mar = if !s.nyquist_ok {
-        String::new()
-    } else if margin_ok {
-        format!(", at least the {}× margin (pass)", sig6(margin))
-    } else {
-        format!(", below the {}× margin (FAIL)", sig6(margin))
+    let mar = match s.margin {
+        _ if !s.nyquist_ok => String::new(),
+        None => String::new(),
+        Some((margin, true)) => format!(", at least the {}× margin (pass)", sig6(margin)),
+        Some((margin, false)) => format!(", below the {}× margin (FAIL)", sig6(margin)),
     };
     line(
         out,

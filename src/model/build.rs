@@ -500,6 +500,11 @@ impl<'a> Builder<'a> {
                 _ => {}
             }
         }
+        let values = FilterValues {
+            order: order.as_ref().map(|o| o.span),
+            cutoff: cutoff.as_ref().map(|o| o.span),
+            attenuation: attenuation.as_ref().map(|o| o.span),
+        };
         let v = |o: Option<Sp<u32>>| o.map(|o| o.value);
         let f = |o: Option<Sp<f64>>| o.map(|o| o.value);
         let response = match kind.as_ref().map(|k| k.value.as_str()) {
@@ -534,6 +539,7 @@ impl<'a> Builder<'a> {
         Some(Filter {
             span: node.span,
             response,
+            values,
         })
     }
 

@@ -300,6 +300,19 @@ pub struct Filter {
     pub span: Span,
     /// Its response.
     pub response: Response,
+    /// Where its editable values are written (for fixes that change one of them).
+    pub values: FilterValues,
+}
+
+/// The spans of a filter's values that a fix may change.
+#[derive(Clone, Copy, Debug, Default, PartialEq)]
+pub struct FilterValues {
+    /// `order`.
+    pub order: Option<Span>,
+    /// `cutoff`.
+    pub cutoff: Option<Span>,
+    /// `attenuation` (of a `digital` filter).
+    pub attenuation: Option<Span>,
 }
 
 /// The filter responses of SPEC §4.

@@ -405,6 +405,17 @@ pub fn check_positive(value: &Exact, text: &str, kind: Kind) -> Result<(), Quant
     Ok(())
 }
 
+/// The decimal a user wrote, exactly, from the `f64` it was read into: the shortest
+/// text that reads back as the same `f64` (Rust's `Display`) is the written decimal for
+/// any value of up to 15 significant digits, so `2.14` becomes 214/100, not the binary
+/// neighbour 2.140000000000000124…. None for non-finite values or beyond i128.
+pub fn exact_decimal(x: f64) -> Option<Exact> {
+    if !x.is_finite() {
+        return None;
+    }
+    parse_decimal(&format!("{x}"))
+}
+
 /// Convert an exact value to f64.
 pub fn to_f64(v: &Exact) -> f64 {
     v.to_f64().unwrap_or(f64::NAN)
@@ -481,6 +492,16 @@ pub fn format_bytes(b: f64, per_second: bool) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn exact_decimal_keeps_the_written_digits() {
+        // 2.14 × 15000 is 32100.000000000004 in f64; as decimals it is 32100 exactly.
+        let m = exact_decimal(2.14).unwrap();
+        assert_eq!(m, Exact::new(214, 100));
+        assert_eq!(m * Exact::from_integer(15000), Exact::from_integer(32100));
+        assert_eq!(exact_decimal(20.0).unwrap(), Exact::from_integer(20));
+        assert!(exact_decimal(f64::NAN).is_none());
+    }
 
     fn hz(s: &str) -> Exact {
         parse(s, Kind::Frequency).unwrap()

@@ -117,6 +117,12 @@ impl<'a> Chain<'a> {
     pub fn new(rig: &'a Rig, channel: &'a RChannel) -> Option<Chain<'a>> {
         let clock = channel.clock?;
         let fs0 = rig.clocks[clock].rate?;
+        Chain::with_adc_rate(rig, channel, fs0)
+    }
+
+    /// The chain of a channel sampled at `fs0` instead of its clock's rate (for trying
+    /// out a clock change: every later rate follows).
+    pub fn with_adc_rate(rig: &'a Rig, channel: &'a RChannel, fs0: Exact) -> Option<Chain<'a>> {
         let mut changes = vec![RateChange {
             stage: 0,
             fs: fs0,
@@ -203,10 +209,7 @@ impl<'a> Chain<'a> {
         {
             v.extend(resp.value.iter().map(|f| (f, analog_at, "sensor response")));
         }
-        let origin = match self.channel.filters_span {
-            Some((_, o)) if o.contains("module") => "module filter",
-            _ => "channel filter",
-        };
+        let origin = self.channel.filters_origin.place();
         v.extend(self.channel.filters.iter().map(|f| {
             let at = if f.response.is_analog() || matches!(f.response, Response::Table { .. }) {
                 analog_at
@@ -233,6 +236,39 @@ impl<'a> Chain<'a> {
                     },
                 };
                 v.push((f, at, "decimation filter"));
+            }
+        }
+        v
+    }
+
+    /// Each filter of the whole chain named by its place, in the order
+    /// [`Chain::contributions`] lists them: "sensor response: …", "channel filter: …"
+    /// (or "module filter: …"), "decimation stage k: …".
+    pub fn filter_places(&self) -> Vec<String> {
+        let mut v = Vec::new();
+        if let Some(s) = self.channel.sensor.map(|i| &self.rig.sensors[i])
+            && let Some(resp) = &s.response
+        {
+            v.extend(
+                resp.value
+                    .iter()
+                    .map(|f| format!("sensor response: {}", f.response.describe())),
+            );
+        }
+        let origin = self.channel.filters_origin.place();
+        v.extend(
+            self.channel
+                .filters
+                .iter()
+                .map(|f| format!("{origin}: {}", f.response.describe())),
+        );
+        for (k, st) in self.channel.def.decimate.iter().enumerate() {
+            if let Some(f) = &st.filter {
+                v.push(format!(
+                    "decimation stage {}: {}",
+                    k + 1,
+                    f.response.describe()
+                ));
             }
         }
         v

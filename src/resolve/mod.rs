@@ -115,6 +115,25 @@ pub struct Band {
     pub from_sensor: bool,
 }
 
+/// Whose ADC filter chain a channel uses.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum FilterOrigin {
+    /// The channel's own `filters` (or none at all).
+    Channel,
+    /// Its module's `filters` (the channel declares none).
+    Module,
+}
+
+impl FilterOrigin {
+    /// "channel filter" or "module filter", for naming a filter's place in a chain.
+    pub fn place(self) -> &'static str {
+        match self {
+            FilterOrigin::Channel => "channel filter",
+            FilterOrigin::Module => "module filter",
+        }
+    }
+}
+
 /// A channel after resolution.
 #[derive(Clone, Debug)]
 pub struct RChannel {
@@ -132,6 +151,8 @@ pub struct RChannel {
     pub filters: Vec<Filter>,
     /// Where that chain is written, if anywhere.
     pub filters_span: Option<(Span, &'static str)>,
+    /// Whose chain it is: the channel's own or its module's.
+    pub filters_origin: FilterOrigin,
     /// Required rejection in dB and where it comes from.
     pub rejection: (f64, Origin),
     /// Stored bits per sample.
@@ -503,11 +524,20 @@ pub fn resolve_incomplete(
             }),
             _ => None,
         };
-        let (filters, filters_span) = match (&c.filters, m.and_then(|m| m.filters.as_ref())) {
-            (Some(f), _) => (f.value.clone(), Some((f.span, "the channel's `filters`"))),
-            (None, Some(f)) => (f.value.clone(), Some((f.span, "the module's `filters`"))),
-            _ => (Vec::new(), None),
-        };
+        let (filters, filters_span, filters_origin) =
+            match (&c.filters, m.and_then(|m| m.filters.as_ref())) {
+                (Some(f), _) => (
+                    f.value.clone(),
+                    Some((f.span, "the channel's `filters`")),
+                    FilterOrigin::Channel,
+                ),
+                (None, Some(f)) => (
+                    f.value.clone(),
+                    Some((f.span, "the module's `filters`")),
+                    FilterOrigin::Module,
+                ),
+                _ => (Vec::new(), None, FilterOrigin::Channel),
+            };
         let rejection = if let Some(r) = &c.alias_rejection {
             (
                 r.value,
@@ -580,6 +610,7 @@ pub fn resolve_incomplete(
             band,
             filters,
             filters_span,
+            filters_origin,
             rejection,
             sample_bits,
             ok: refs_ok && clock_ok && stages_ok && modulator_ok && !c.broken,

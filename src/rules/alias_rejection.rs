@@ -1,12 +1,11 @@
 //! `alias-rejection`: attenuation where energy folds into the band, at every rate change.
 
-use super::rates::{help_for, rate_channels, rate_labels};
+use crate::analysis::RigAnalysis;
+use super::rates::{help_for, rate_channels, rate_labels, with_fix};
 use super::{Rule, Stage};
 use crate::finding::{Finding, Label, Severity, format_db, round_to};
 use crate::model::quantity::format_hz;
-use crate::resolve::chain::RateChange;
-use crate::resolve::{Origin, Rig};
-use crate::signal::fold::fold;
+use crate::resolve::Origin;
 
 /// `alias-rejection`.
 pub static ALIAS_REJECTION: Rule = Rule {
@@ -52,103 +51,55 @@ channels:
     check: Some(check),
 };
 
-struct Shortfall<'c> {
-    rc: &'c RateChange,
-    fold_from: f64,
-    folds_to: f64,
-    attenuation: f64,
-    resonance: Option<(f64, f64)>,
-}
-
-fn check(rig: &Rig, out: &mut Vec<Finding>) {
-    for (_, chain, band) in rate_channels(rig) {
-        let ch = chain.channel;
-        let required = ch.rejection.0;
-        let mut worst: Option<Shortfall> = None;
-        for rc in &chain.changes {
-            let fs = rc.fs_hz();
-            if fs <= 2.0 * band {
-                break; // nyquist reports this and everything after it
-            }
-            let k = rc.stage;
-            let f = fs - band;
-            let a = chain.attenuation_db(f, k);
-            let mut candidates = vec![Shortfall {
-                rc,
-                fold_from: f,
-                folds_to: band,
-                attenuation: a,
-                resonance: None,
-            }];
-            if let Some(res) = ch.sensor.and_then(|s| rig.sensors[s].resonance.as_ref()) {
-                let fr = res.frequency.value;
-                let before = if k == 0 {
-                    fr
-                } else {
-                    chain.folded_through(fr, k - 1)
-                };
-                let after = fold(before, fs);
-                if fr > band && before > band && after <= band {
-                    candidates.push(Shortfall {
-                        rc,
-                        fold_from: fr,
-                        folds_to: after,
-                        attenuation: chain.attenuation_db(fr, k) - res.gain.value,
-                        resonance: Some((fr, res.gain.value)),
-                    });
-                }
-            }
-            for c in candidates {
-                if c.attenuation < required
-                    && worst.as_ref().is_none_or(|w| c.attenuation < w.attenuation)
-                {
-                    worst = Some(c);
-                }
-            }
-        }
-        let Some(w) = worst else { continue };
+fn check(a: &RigAnalysis, out: &mut Vec<Finding>) {
+    let rig = a.rig;
+    for (ch, c, r) in rate_channels(a) {
+        let Some(w) = r.alias_failure() else { continue };
+        let st = &r.stages[w.stage];
+        let band = r.band_hz;
+        let required = w.required_db;
         let name = &ch.def.name.value;
-        let at = if w.rc.stage == 0 {
-            format!("at the ADC ({})", format_hz(w.rc.fs_hz()))
+        let at = if w.stage == 0 {
+            format!("at the ADC ({})", format_hz(st.rate_hz()))
         } else {
             format!(
                 "at decimation stage {} ({})",
-                w.rc.stage,
-                format_hz(w.rc.fs_hz())
+                w.stage,
+                format_hz(st.rate_hz())
             )
         };
         let message = match w.resonance {
             None => format!(
                 "energy at {} folds into the {} band of `{name}` {at} with {} of attenuation, {} needed",
-                format_hz(w.fold_from),
+                format_hz(w.fold_from_hz),
                 format_hz(band),
-                format_db(w.attenuation),
+                format_db(w.attenuation_db),
                 format_db(required)
             ),
             Some((fr, gain)) => format!(
                 "the {} resonance (+{} dB) of `{name}`'s sensor folds to {} {at} with a net {} of attenuation, {} needed",
                 format_hz(fr),
                 crate::model::quantity::sig6(gain),
-                format_hz(w.folds_to),
-                format_db(w.attenuation),
+                format_hz(w.folds_to_hz),
+                format_db(w.attenuation_db),
                 format_db(required)
             ),
         };
         let primary = format!(
             "{} folds to {}",
-            format_hz(w.fold_from),
-            format_hz(w.folds_to)
+            format_hz(w.fold_from_hz),
+            format_hz(w.folds_to_hz)
         );
         let mut f = ALIAS_REJECTION
-            .finding(w.rc.span, primary, message)
+            .finding(st.span, primary, message)
             .with_channel(name);
-        match (&ch.filters_span, w.rc.stage) {
+        match (&ch.filters_span, w.stage) {
             (Some((span, _)), 0) if !ch.filters.is_empty() => f.secondary.push(Label::new(
                 *span,
                 format!(
                     "this chain gives {} at {}",
-                    format_db(w.attenuation),
-                    format_hz(w.fold_from)
+                    format_db(w.attenuation_db),
+                    format_hz(w.fold_from_hz)
                 ),
             )),
             (Some((span, _)), 0) => f.secondary.push(Label::new(
@@ -160,14 +111,14 @@ fn check(rig: &Rig, out: &mut Vec<Finding>) {
                 "no anti-alias filter on this channel",
             )),
             (_, k) => {
-                let st = &ch.def.decimate[k - 1];
-                match &st.filter {
+                let stage = &ch.def.decimate[k - 1];
+                match &stage.filter {
                     Some(flt) => f
                         .secondary
                         .push(Label::new(flt.span, "this stage's filter")),
                     None => f
                         .secondary
-                        .push(Label::new(st.span, "no filter: plain down-sampling")),
+                        .push(Label::new(stage.span, "no filter: plain down-sampling")),
                 }
             }
         }
@@ -185,29 +136,31 @@ fn check(rig: &Rig, out: &mut Vec<Finding>) {
                 format!("requires {}", format_db(required)),
             ));
         }
-        f.secondary.extend(rate_labels(rig, ch, w.rc));
+        f.secondary.extend(rate_labels(rig, ch, w.stage));
         let origin = match &ch.rejection.1 {
             Origin::Builtin => Some(
                 "the 40 dB built-in requirement applies; set `alias-rejection` if the test needs another",
             ),
             _ => None,
         };
-        let target = super::fix::FilterTarget {
-            frequency: w.fold_from,
-            needed_db: required + w.resonance.map_or(0.0, |(_, gain)| gain),
-        };
-        let help = help_for(&chain, w.rc, band, Some(target));
+        let help = help_for(c, || {
+            Some(format!(
+                "attenuate {} by another {} before this rate change (a steeper or lower anti-alias filter), or sample faster",
+                format_hz(w.fold_from_hz),
+                format_db(required - w.attenuation_db)
+            ))
+        });
         f = f
             .with_help_opt(match (help, origin) {
                 (Some(h), Some(o)) => Some(format!("{h}; {o}")),
                 (h, _) => h,
             })
-            .with_f64("rate_hz", w.rc.fs_hz())
+            .with_f64("rate_hz", st.rate_hz())
             .with_f64("band_hz", band)
-            .with_f64("fold_from_hz", w.fold_from)
-            .with_f64("attenuation_db", round_to(w.attenuation, 3))
+            .with_f64("fold_from_hz", w.fold_from_hz)
+            .with_f64("attenuation_db", round_to(w.attenuation_db, 3))
             .with_f64("required_db", round_to(required, 3))
-            .with_value("stage", w.rc.stage);
-        out.push(f);
+            .with_value("stage", w.stage);
+        out.push(with_fix(f, c));
     }
 }

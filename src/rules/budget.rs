@@ -2,6 +2,7 @@
 //!
 //! A channel's data rate is its final rate × sample-bits ÷ 8 bytes per second.
 
+use crate::analysis::RigAnalysis;
 use super::{Rule, Stage};
 use crate::finding::{Finding, Severity};
 use crate::model::quantity::{format_bytes, to_f64};
@@ -70,7 +71,8 @@ pub fn channel_rates(rig: &Rig) -> Vec<(usize, f64)> {
         .collect()
 }
 
-fn check_throughput(rig: &Rig, out: &mut Vec<Finding>) {
+fn check_throughput(a: &RigAnalysis, out: &mut Vec<Finding>) {
+    let rig = a.rig;
     let rates = channel_rates(rig);
     for (mi, m) in rig.modules.iter().enumerate() {
         let Some(limit) = &m.throughput else { continue };
@@ -177,7 +179,8 @@ logger:
     check: Some(check_storage),
 };
 
-fn check_storage(rig: &Rig, out: &mut Vec<Finding>) {
+fn check_storage(a: &RigAnalysis, out: &mut Vec<Finding>) {
+    let rig = a.rig;
     let Some(logger) = &rig.logger else { return };
     let (Some(storage), Some(duration)) = (&logger.storage, &logger.duration) else {
         return;

@@ -1,12 +1,10 @@
 //! `disturbance-alias`: a known tone above half a rate that folds into the band.
 
-use super::rates::rate_labels;
+use crate::analysis::RigAnalysis;
+use super::rates::{help_for, rate_channels, rate_labels, with_fix};
 use super::{Rule, Stage};
 use crate::finding::{Finding, Label, Severity, format_db, round_to};
-use crate::model::quantity::{format_hz, sig6, to_f64};
-use crate::resolve::Rig;
-use crate::resolve::chain::Chain;
-use crate::signal::fold::fold;
+use crate::model::quantity::{format_hz, sig6};
 
 /// `disturbance-alias`.
 pub static DISTURBANCE_ALIAS: Rule = Rule {
@@ -58,77 +56,62 @@ disturbances:
     check: Some(check),
 };
 
-fn check(rig: &Rig, out: &mut Vec<Finding>) {
-    for (di, d) in rig.disturbances.iter().enumerate() {
-        let Some(freq) = &d.frequency else { continue };
-        let fd = to_f64(&freq.value);
-        let level = d.level.as_ref().map_or(0.0, |l| l.value);
-        for &ci in &rig.disturbance_targets[di] {
-            let ch = &rig.channels[ci];
-            if !ch.ok {
-                continue;
-            }
-            let (Some(band), Some(chain)) = (ch.band.as_ref(), Chain::new(rig, ch)) else {
-                continue;
-            };
-            let band = to_f64(&band.hz);
-            let mut at = fd;
-            for rc in &chain.changes {
-                let fs = rc.fs_hz();
-                if fs <= 2.0 * band {
-                    break;
-                }
-                let folded = fold(at, fs);
-                if at > fs / 2.0 && folded <= band {
-                    let a = chain.attenuation_db(fd, rc.stage);
-                    let required = ch.rejection.0 + level;
-                    if a < required {
-                        let name = &ch.def.name.value;
-                        let where_ = if rc.stage == 0 {
-                            format!("the ADC ({})", format_hz(fs))
-                        } else {
-                            format!("decimation stage {} ({})", rc.stage, format_hz(fs))
-                        };
-                        let mut f = DISTURBANCE_ALIAS
-                            .finding(
-                                rc.span,
-                                format!("{} folds to {} here", format_hz(fd), format_hz(folded)),
-                                format!(
-                                    "the {} tone `{}` folds to {} inside the {} band of `{name}` at {where_}, attenuated {}, {} needed",
-                                    format_hz(fd),
-                                    d.name.value,
-                                    format_hz(folded),
-                                    format_hz(band),
-                                    format_db(a),
-                                    format_db(required)
-                                ),
-                            )
-                            .with_channel(name)
-                            .with_label(freq.span, format!("tone at {}", format_hz(fd)));
-                        if let Some(l) = &d.level {
-                            f.secondary.push(Label::new(
-                                l.span,
-                                format!("{} dB above broadband content", sig6(level)),
-                            ));
-                        }
-                        f.secondary.extend(rate_labels(rig, ch, rc));
-                        f = f
-                            .with_help(format!(
-                                "attenuate the tone by another {} before this rate change (a steeper anti-alias filter), or choose a rate at which {} does not fold into the band",
-                                format_db(required - a).replace(".00", ""),
-                                format_hz(fd)
-                            ))
-                            .with_f64("disturbance_hz", fd)
-                            .with_f64("alias_hz", folded)
-                            .with_f64("attenuation_db", round_to(a, 3))
-                            .with_f64("required_db", round_to(required, 3))
-                            .with_value("stage", rc.stage);
-                        out.push(f);
-                    }
-                    break; // in the band now: later stages do not move it
-                }
-                at = folded;
-            }
+fn check(a: &RigAnalysis, out: &mut Vec<Finding>) {
+    let rig = a.rig;
+    // In the rig's disturbance order, then channel order (as the rig lists them).
+    let mut fails = Vec::new();
+    for (ch, c, r) in rate_channels(a) {
+        for (d, step) in r.disturbance_failures() {
+            fails.push((d.index, c.channel, ch, c, r, d, step));
         }
+    }
+    fails.sort_by_key(|x| (x.0, x.1));
+    for (di, _, ch, c, r, d, step) in fails {
+        let def = &rig.disturbances[di];
+        let Some(freq) = &def.frequency else { continue };
+        let (fd, folded, band, at) = (d.frequency_hz, step.lands_at_hz, r.band_hz, step.attenuation_db);
+        let required = d.required_db;
+        let st = &r.stages[step.stage];
+        let name = &ch.def.name.value;
+        let where_ = if step.stage == 0 {
+            format!("the ADC ({})", format_hz(step.rate_hz))
+        } else {
+            format!("decimation stage {} ({})", step.stage, format_hz(step.rate_hz))
+        };
+        let mut f = DISTURBANCE_ALIAS
+            .finding(
+                st.span,
+                format!("{} folds to {} here", format_hz(fd), format_hz(folded)),
+                format!(
+                    "the {} tone `{}` folds to {} inside the {} band of `{name}` at {where_}, attenuated {}, {} needed",
+                    format_hz(fd),
+                    d.name,
+                    format_hz(folded),
+                    format_hz(band),
+                    format_db(at),
+                    format_db(required)
+                ),
+            )
+            .with_channel(name)
+            .with_label(freq.span, format!("tone at {}", format_hz(fd)));
+        if let Some(l) = &def.level {
+            f.secondary.push(Label::new(
+                l.span,
+                format!("{} dB above broadband content", sig6(d.level_db)),
+            ));
+        }
+        f.secondary.extend(rate_labels(rig, ch, step.stage));
+        f = f
+            .with_help_opt(help_for(c, || Some(format!(
+                "attenuate the tone by another {} before this rate change (a steeper anti-alias filter), or choose a rate at which {} does not fold into the band",
+                format_db(required - at).replace(".00", ""),
+                format_hz(fd)
+            ))))
+            .with_f64("disturbance_hz", fd)
+            .with_f64("alias_hz", folded)
+            .with_f64("attenuation_db", round_to(at, 3))
+            .with_f64("required_db", round_to(required, 3))
+            .with_value("stage", step.stage);
+        out.push(with_fix(f, c));
     }
 }

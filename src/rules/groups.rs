@@ -1,5 +1,6 @@
 //! `group-clock`, `group-phase` and `group-incomplete`: channels analysed together.
 
+use crate::analysis::RigAnalysis;
 use super::{Rule, Stage};
 use crate::finding::{Finding, Severity, round_to};
 use crate::model::quantity::{format_hz, format_seconds, sig6, to_f64};
@@ -66,7 +67,8 @@ groups:
     check: Some(check_clock),
 };
 
-fn check_clock(rig: &Rig, out: &mut Vec<Finding>) {
+fn check_clock(a: &RigAnalysis, out: &mut Vec<Finding>) {
+    let rig = a.rig;
     for (gi, g) in rig.groups.iter().enumerate() {
         let members: Vec<usize> = rig.group_members[gi]
             .iter()
@@ -198,7 +200,8 @@ groups:
     check: Some(check_phase),
 };
 
-fn check_phase(rig: &Rig, out: &mut Vec<Finding>) {
+fn check_phase(a: &RigAnalysis, out: &mut Vec<Finding>) {
+    let rig = a.rig;
     for (gi, g) in rig.groups.iter().enumerate() {
         let tol = g
             .phase_tolerance

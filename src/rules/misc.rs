@@ -1,12 +1,12 @@
 //! Single-value checks: `module-rate`, `missing-band`, `passband-droop`, `sensor-band`,
 //! `oversampling`, `unused-clock`.
 
+use crate::analysis::{ModuleLimit, RigAnalysis};
 use super::rates::{clock_labels, rate_channels};
 use super::{Rule, Stage};
 use crate::finding::{Finding, Label, Severity, format_db, round_to};
 use crate::model::quantity::{format_hz, sig6, to_f64};
 
-use crate::resolve::Rig;
 
 /// `module-rate`.
 pub static MODULE_RATE: Rule = Rule {
@@ -55,77 +55,74 @@ channels:
     check: Some(check_module_rate),
 };
 
-fn check_module_rate(rig: &Rig, out: &mut Vec<Finding>) {
-    for ch in rig.channels.iter().filter(|c| c.ok) {
-        let (Some(mi), Some(rate)) = (ch.module, rig.adc_rate(ch)) else {
+fn check_module_rate(a: &RigAnalysis, out: &mut Vec<Finding>) {
+    let rig = a.rig;
+    for c in &a.channels {
+        let Some(v) = c.module_rate.as_ref().filter(|v| !v.pass) else {
             continue;
         };
-        let m = &rig.modules[mi];
-        let fs = to_f64(&rate);
+        let ch = &rig.channels[c.channel];
+        let m = &rig.modules[v.module];
+        let fs = to_f64(&v.rate);
         let span = ch.def.clock.as_ref().map_or(ch.def.name.span, |c| c.span);
         let name = &ch.def.name.value;
-        if let Some(max) = m.max_rate.as_ref().filter(|max| rate > max.value) {
-            let limit = to_f64(&max.value);
-            let mut f = MODULE_RATE
-                .finding(
-                    span,
-                    format!("samples at {}", format_hz(fs)),
-                    format!(
-                        "`{name}` samples at {}, above the {} max-rate of module `{}`",
-                        format_hz(fs),
-                        format_hz(limit),
-                        m.name.value
-                    ),
-                )
-                .with_channel(name)
-                .with_label(max.span, format!("max-rate {}", format_hz(limit)));
-            f.secondary
-                .extend(ch.clock.map(|k| clock_labels(rig, k)).unwrap_or_default());
-            out.push(
-                f.with_help(format!(
-                    "divide the clock down to {} or less, or use a faster module",
-                    format_hz(limit)
-                ))
-                .with_f64("rate_hz", fs)
-                .with_f64("limit_hz", limit),
-            );
-            continue;
-        }
-        if let Some(rates) = m.rates.as_ref().filter(|r| !r.value.is_empty())
-            && rates.value.iter().all(|r| r.value != rate)
-        {
-            // The nearest supported rate, as the limit.
-            let nearest = rates
-                .value
-                .iter()
-                .map(|r| to_f64(&r.value))
-                .min_by(|a, b| (a - fs).abs().total_cmp(&(b - fs).abs()))
-                .unwrap_or(0.0);
-            let list: Vec<String> = rates
-                .value
-                .iter()
-                .map(|r| format_hz(to_f64(&r.value)))
-                .collect();
-            out.push(
-                MODULE_RATE
+        match &v.limit {
+            Some(ModuleLimit::MaxRate(max)) => {
+                let limit = to_f64(max);
+                let max_span = m.max_rate.as_ref().map_or(m.name.span, |m| m.span);
+                let mut f = MODULE_RATE
                     .finding(
                         span,
                         format!("samples at {}", format_hz(fs)),
                         format!(
-                            "`{name}` samples at {}, which module `{}` does not support",
+                            "`{name}` samples at {}, above the {} max-rate of module `{}`",
                             format_hz(fs),
+                            format_hz(limit),
                             m.name.value
                         ),
                     )
                     .with_channel(name)
-                    .with_label(rates.span, format!("supported: {}", list.join(", ")))
-                    .with_help(format!(
-                        "use a clock at one of the module's rates: {}",
-                        list.join(", ")
+                    .with_label(max_span, format!("max-rate {}", format_hz(limit)));
+                f.secondary
+                    .extend(ch.clock.map(|k| clock_labels(rig, k)).unwrap_or_default());
+                out.push(
+                    f.with_help(format!(
+                        "divide the clock down to {} or less, or use a faster module",
+                        format_hz(limit)
                     ))
                     .with_f64("rate_hz", fs)
-                    .with_f64("limit_hz", nearest),
-            );
+                    .with_f64("limit_hz", limit),
+                );
+            }
+            Some(ModuleLimit::Rates { nearest }) => {
+                let Some(rates) = m.rates.as_ref() else { continue };
+                let list: Vec<String> = rates
+                    .value
+                    .iter()
+                    .map(|r| format_hz(to_f64(&r.value)))
+                    .collect();
+                out.push(
+                    MODULE_RATE
+                        .finding(
+                            span,
+                            format!("samples at {}", format_hz(fs)),
+                            format!(
+                                "`{name}` samples at {}, which module `{}` does not support",
+                                format_hz(fs),
+                                m.name.value
+                            ),
+                        )
+                        .with_channel(name)
+                        .with_label(rates.span, format!("supported: {}", list.join(", ")))
+                        .with_help(format!(
+                            "use a clock at one of the module's rates: {}",
+                            list.join(", ")
+                        ))
+                        .with_f64("rate_hz", fs)
+                        .with_f64("limit_hz", to_f64(nearest)),
+                );
+            }
+            None => {}
         }
     }
 }
@@ -168,7 +165,8 @@ channels:
     check: Some(check_missing_band),
 };
 
-fn check_missing_band(rig: &Rig, out: &mut Vec<Finding>) {
+fn check_missing_band(a: &RigAnalysis, out: &mut Vec<Finding>) {
+    let rig = a.rig;
     for ch in rig
         .channels
         .iter()
@@ -238,38 +236,30 @@ channels:
     check: Some(check_droop),
 };
 
-fn check_droop(rig: &Rig, out: &mut Vec<Finding>) {
-    let tol = rig.thresholds.passband_tolerance;
-    for (_, chain, band) in rate_channels(rig) {
-        let ch = chain.channel;
-        let last = chain.changes.len() - 1;
-        if chain.changes.iter().any(|rc| rc.fs_hz() <= 2.0 * band) {
-            continue; // nyquist reports the channel
-        }
-        let a = chain.attenuation_db(band, last);
-        if a <= tol + 1e-9 {
-            continue;
-        }
+fn check_droop(a: &RigAnalysis, out: &mut Vec<Finding>) {
+    let rig = a.rig;
+    for (ch, _, r) in rate_channels(a) {
+        let Some(p) = r.droop_failure() else { continue };
+        let (band, att, tol) = (r.band_hz, p.attenuation_db, p.tolerance_db);
         let name = &ch.def.name.value;
         let b = ch.band.as_ref().expect("rate channels have a band");
         let (span, label) = match &ch.filters_span {
             Some((span, _)) if !ch.filters.is_empty() => (
                 *span,
-                format!("attenuates {} by {}", format_hz(band), format_db(a)),
+                format!("attenuates {} by {}", format_hz(band), format_db(att)),
             ),
-            _ => (b.span, format!("{} at the band edge", format_db(a))),
+            _ => (b.span, format!("{} at the band edge", format_db(att))),
         };
-        let worst = chain
-            .contributions(band, last)
-            .into_iter()
-            .max_by(|x, y| x.db.total_cmp(&y.db))
-            .map(|c| format!("; most of it comes from the {}", c.what))
+        let worst = p
+            .largest
+            .as_ref()
+            .map(|w| format!("; most of it comes from the {w}"))
             .unwrap_or_default();
         let mut f = PASSBAND_DROOP
             .finding(span, label, format!(
                 "the chain of `{name}` attenuates its {} band edge by {}, more than the {} dB tolerance",
                 format_hz(band),
-                format_db(a),
+                format_db(att),
                 sig6(tol)
             ))
             .with_channel(name)
@@ -283,7 +273,7 @@ fn check_droop(rig: &Rig, out: &mut Vec<Finding>) {
                 "move the filter's cutoff further above the band edge{worst}"
             ))
             .with_f64("band_hz", band)
-            .with_f64("attenuation_db", round_to(a, 3))
+            .with_f64("attenuation_db", round_to(att, 3))
             .with_f64("tolerance_db", tol),
         );
     }
@@ -336,19 +326,19 @@ channels:
     check: Some(check_sensor_band),
 };
 
-fn check_sensor_band(rig: &Rig, out: &mut Vec<Finding>) {
-    for ch in &rig.channels {
-        let (Some(band), Some(si)) = (ch.band.as_ref().filter(|b| !b.from_sensor), ch.sensor)
-        else {
+fn check_sensor_band(a: &RigAnalysis, out: &mut Vec<Finding>) {
+    let rig = a.rig;
+    for c in &a.channels {
+        let Some(v) = c.sensor_band.as_ref().filter(|v| !v.pass) else {
             continue;
         };
-        let s = &rig.sensors[si];
-        let Some(bw) = &s.bandwidth else { continue };
-        if band.hz <= bw.value {
+        let ch = &rig.channels[c.channel];
+        let s = &rig.sensors[v.sensor];
+        let (Some(band), Some(bw)) = (ch.band.as_ref(), s.bandwidth.as_ref()) else {
             continue;
-        }
+        };
         let name = &ch.def.name.value;
-        let (b, w) = (to_f64(&band.hz), to_f64(&bw.value));
+        let (b, w) = (to_f64(&v.band), to_f64(&v.bandwidth));
         out.push(
             SENSOR_BAND
                 .finding(
@@ -416,16 +406,14 @@ channels:
     check: Some(check_oversampling),
 };
 
-fn check_oversampling(rig: &Rig, out: &mut Vec<Finding>) {
-    let limit = rig.thresholds.oversampling_limit;
-    for (_, chain, band) in rate_channels(rig) {
-        let last = chain.changes.last().expect("ADC");
-        let fs = last.fs_hz();
-        let ratio = fs / band;
-        if ratio <= limit {
+fn check_oversampling(a: &RigAnalysis, out: &mut Vec<Finding>) {
+    let rig = a.rig;
+    for (ch, _, r) in rate_channels(a) {
+        let Some(o) = r.oversampling_failure() else {
             continue;
-        }
-        let ch = chain.channel;
+        };
+        let last = r.stages.last().expect("the ADC is always there");
+        let (fs, band, ratio, limit) = (r.final_rate_hz, r.band_hz, r.final_ratio, o.limit);
         let name = &ch.def.name.value;
         let target = limit * band;
         // Decimating by at least `least` reaches the limit; by at most `most` keeps the margin.
@@ -505,7 +493,8 @@ channels:
     check: Some(check_unused_clock),
 };
 
-fn check_unused_clock(rig: &Rig, out: &mut Vec<Finding>) {
+fn check_unused_clock(a: &RigAnalysis, out: &mut Vec<Finding>) {
+    let rig = a.rig;
     // A channel whose clock reference is broken might have meant any clock: stay quiet.
     if rig
         .channels

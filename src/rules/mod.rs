@@ -9,12 +9,12 @@ mod alias_rejection;
 mod budget;
 mod delta_sigma;
 mod disturbance_alias;
-mod fix;
 mod groups;
 mod misc;
 mod rates;
 mod stage_rules;
 
+use crate::analysis::{self, RigAnalysis};
 use crate::finding::{Finding, Label, Severity};
 use crate::resolve::Rig;
 use crate::source::Span;
@@ -50,8 +50,8 @@ pub struct Rule {
     pub passing: &'static str,
     /// The stage that emits it.
     pub stage: Stage,
-    /// The check, for physics rules.
-    pub check: Option<fn(&Rig, &mut Vec<Finding>)>,
+    /// The check, for physics rules: it reads the rig's analysis.
+    pub check: Option<fn(&RigAnalysis, &mut Vec<Finding>)>,
 }
 
 impl Rule {
@@ -99,12 +99,20 @@ pub fn rule(name: &str) -> Option<&'static Rule> {
     RULES.iter().copied().find(|r| r.name == name)
 }
 
-/// Run every physics rule on a rig.
+/// Run every physics rule on a rig (every rule on, fixes searched).
 pub fn check_rig(rig: &Rig) -> Vec<Finding> {
+    let a = analysis::analyse_rig(rig, &analysis::Context::default());
+    check_analysis(&a, |_| true)
+}
+
+/// Turn a rig's analysis into findings: every physics rule for which `on(name)` holds.
+pub fn check_analysis(a: &RigAnalysis, on: impl Fn(&str) -> bool) -> Vec<Finding> {
     let mut out = Vec::new();
     for r in RULES {
-        if let Some(check) = r.check {
-            check(rig, &mut out);
+        if let Some(check) = r.check
+            && on(r.name)
+        {
+            check(a, &mut out);
         }
     }
     out

@@ -1,11 +1,11 @@
 //! `nyquist` and `sampling-margin`: the rate at every rate change against the band.
 
-use super::fix;
+use crate::analysis::RigAnalysis;
 use super::{Rule, Stage};
-use crate::finding::{Finding, Label, Severity, round_to};
+use crate::analysis::{ChannelAnalysis, RateAnalysis, StageInfo};
+use crate::finding::{Finding, Fix, Label, Severity, round_to};
 use crate::model::ClockDef;
 use crate::model::quantity::{format_hz, sig6, to_f64};
-use crate::resolve::chain::{Chain, RateChange};
 use crate::resolve::{RChannel, Rig};
 
 /// `nyquist`.
@@ -148,9 +148,9 @@ pub fn clock_labels(rig: &Rig, clock: usize) -> Vec<Label> {
     labels
 }
 
-/// The labels for a rate change: the stage's own value and, for the ADC, the clock path.
-pub fn rate_labels(rig: &Rig, ch: &RChannel, rc: &RateChange) -> Vec<Label> {
-    if rc.stage == 0 {
+/// The labels for a rate change: for the ADC (stage 0), the clock path.
+pub fn rate_labels(rig: &Rig, ch: &RChannel, stage: usize) -> Vec<Label> {
+    if stage == 0 {
         ch.clock.map(|k| clock_labels(rig, k)).unwrap_or_default()
     } else {
         Vec::new()
@@ -158,57 +158,59 @@ pub fn rate_labels(rig: &Rig, ch: &RChannel, rc: &RateChange) -> Vec<Label> {
 }
 
 /// "samples at 750 Hz" / "decimation stage 2 leaves 750 Hz".
-pub fn rate_phrase(rc: &RateChange) -> String {
+pub fn rate_phrase(rc: &StageInfo) -> String {
     if rc.stage == 0 {
-        format!("samples at {}", format_hz(rc.fs_hz()))
+        format!("samples at {}", format_hz(rc.rate_hz()))
     } else {
         format!(
             "decimation stage {} leaves {}",
             rc.stage,
-            format_hz(rc.fs_hz())
+            format_hz(rc.rate_hz())
         )
     }
 }
 
 /// "samples at 750 Hz" / "is left at 750 Hz after decimation stage 2", for messages.
-pub fn rate_clause(rc: &RateChange) -> String {
+pub fn rate_clause(rc: &StageInfo) -> String {
     if rc.stage == 0 {
-        format!("samples at {}", format_hz(rc.fs_hz()))
+        format!("samples at {}", format_hz(rc.rate_hz()))
     } else {
         format!(
             "is left at {} after decimation stage {}",
-            format_hz(rc.fs_hz()),
+            format_hz(rc.rate_hz()),
             rc.stage
         )
     }
 }
 
-/// The channels whose rate rules can run, with their chain and band in Hz.
-pub fn rate_channels(rig: &Rig) -> impl Iterator<Item = (usize, Chain<'_>, f64)> {
-    rig.channels
-        .iter()
-        .enumerate()
-        .filter(|(_, c)| c.ok)
-        .filter_map(move |(i, c)| {
-            let band = to_f64(&c.band.as_ref()?.hz);
-            Some((i, Chain::new(rig, c)?, band))
-        })
+/// The channels whose rate rules were analysed: the channel, its analysis and its
+/// rate analysis.
+pub fn rate_channels<'a>(
+    a: &'a RigAnalysis,
+) -> impl Iterator<Item = (&'a RChannel, &'a ChannelAnalysis, &'a RateAnalysis)> {
+    a.channels.iter().filter_map(move |c| {
+        let r = c.rates.as_ref().ok()?;
+        Some((&a.rig.channels[c.channel], c, r))
+    })
 }
 
-/// Help for a rate rule at rate change `rc`; `filter` is what a filter change must reach
-/// when no rate works (alias rejection), None for the rate rules alone.
-pub fn help_for(
-    chain: &Chain,
-    rc: &RateChange,
-    band: f64,
-    filter: Option<fix::FilterTarget>,
-) -> Option<String> {
-    let margin = chain.rig.thresholds.margin;
-    let required = chain.channel.rejection.0;
-    if rc.stage == 0 {
-        fix::adc_help(chain, band, margin, required, filter)
-    } else {
-        fix::stage_help(chain, rc.stage, band, margin, required, filter.is_some())
+/// Help for a rate rule at rate change `stage`: the channel's confirmed fix when the
+/// analysis found one; else `fallback` says what the rules alone require.
+pub fn help_for(c: &ChannelAnalysis, fallback: impl FnOnce() -> Option<String>) -> Option<String> {
+    match &c.fix {
+        Some(fix) => Some(fix.help.clone()),
+        None => fallback(),
+    }
+}
+
+/// Attach the channel's fix (with its help) to a rate finding.
+pub fn with_fix(f: Finding, c: &ChannelAnalysis) -> Finding {
+    match &c.fix {
+        Some(fix) => f.with_fix(Fix {
+            description: fix.description.clone(),
+            edits: fix.edits.clone(),
+        }),
+        None => f,
     }
 }
 
@@ -224,94 +226,83 @@ fn band_label(ch: &RChannel, band: f64) -> Label {
     }
 }
 
-fn check_nyquist(rig: &Rig, out: &mut Vec<Finding>) {
-    for (_, chain, band) in rate_channels(rig) {
-        let ch = chain.channel;
-        let Some(rc) = chain.changes.iter().find(|rc| rc.fs_hz() <= 2.0 * band) else {
+fn check_nyquist(a: &RigAnalysis, out: &mut Vec<Finding>) {
+    let rig = a.rig;
+    for (ch, c, r) in rate_channels(a) {
+        let Some(st) = r.nyquist_failure() else {
             continue;
         };
-        let fs = rc.fs_hz();
-        let ratio = fs / band;
+        let band = r.band_hz;
         let mut f = NYQUIST
             .finding(
-                rc.span,
-                rate_phrase(rc),
+                st.span,
+                rate_phrase(st),
                 format!(
                     "`{}` {}, which is not above twice its {} band",
                     ch.def.name.value,
-                    rate_clause(rc),
+                    rate_clause(st),
                     format_hz(band)
                 ),
             )
             .with_channel(&ch.def.name.value);
         f.secondary.push(band_label(ch, band));
-        f.secondary.extend(rate_labels(rig, ch, rc));
+        f.secondary.extend(rate_labels(rig, ch, st.stage));
         f = f
-            .with_help_opt(help_for(&chain, rc, band, None).or_else(|| {
+            .with_help_opt(help_for(c, || {
                 Some(format!(
                     "sample above {} (twice the band)",
                     format_hz(2.0 * band)
                 ))
             }))
-            .with_f64("rate_hz", fs)
+            .with_f64("rate_hz", st.rate_hz())
             .with_f64("band_hz", band)
-            .with_f64("ratio", round_to(ratio, 4))
-            .with_value("stage", rc.stage);
-        out.push(f);
+            .with_f64("ratio", round_to(st.ratio, 4))
+            .with_value("stage", st.stage);
+        out.push(with_fix(f, c));
     }
 }
 
-fn check_margin(rig: &Rig, out: &mut Vec<Finding>) {
-    let margin = rig.thresholds.margin;
-    for (_, chain, band) in rate_channels(rig) {
-        let ch = chain.channel;
-        // Only where nyquist holds at every earlier rate change: no cascades.
-        for rc in &chain.changes {
-            let fs = rc.fs_hz();
-            if fs <= 2.0 * band {
-                break;
-            }
-            if fs >= margin * band {
-                continue;
-            }
-            let ratio = fs / band;
-            let mut f = SAMPLING_MARGIN
-                .finding(
-                    rc.span,
-                    format!(
-                        "{}, {}× the band",
-                        rate_phrase(rc),
-                        sig6(round_to(ratio, 3))
-                    ),
-                    format!(
-                        "`{}` {}, only {}× its {} band (the margin is {}×)",
-                        ch.def.name.value,
-                        rate_clause(rc),
-                        sig6(round_to(ratio, 3)),
-                        format_hz(band),
-                        sig6(margin)
-                    ),
-                )
-                .with_channel(&ch.def.name.value);
-            f.secondary.push(band_label(ch, band));
-            if let Some(span) = rig.threshold_spans.get("margin") {
-                f.secondary
-                    .push(Label::new(*span, format!("margin {}×", sig6(margin))));
-            }
-            f.secondary.extend(rate_labels(rig, ch, rc));
-            f = f
-                .with_help_opt(
-                    help_for(&chain, rc, band, None).or_else(|| {
-                        Some(format!("sample at {} or more", format_hz(margin * band)))
-                    }),
-                )
-                .with_f64("rate_hz", fs)
-                .with_f64("band_hz", band)
-                .with_f64("ratio", round_to(ratio, 4))
-                .with_f64("margin", margin)
-                .with_value("stage", rc.stage);
-            out.push(f);
-            break;
+fn check_margin(a: &RigAnalysis, out: &mut Vec<Finding>) {
+    let rig = a.rig;
+    for (ch, c, r) in rate_channels(a) {
+        let Some(st) = r.margin_failure() else {
+            continue;
+        };
+        let band = r.band_hz;
+        let margin = st.margin.map_or(rig.thresholds.margin, |m| m.0);
+        let mut f = SAMPLING_MARGIN
+            .finding(
+                st.span,
+                format!(
+                    "{}, {}× the band",
+                    rate_phrase(st),
+                    sig6(round_to(st.ratio, 3))
+                ),
+                format!(
+                    "`{}` {}, only {}× its {} band (the margin is {}×)",
+                    ch.def.name.value,
+                    rate_clause(st),
+                    sig6(round_to(st.ratio, 3)),
+                    format_hz(band),
+                    sig6(margin)
+                ),
+            )
+            .with_channel(&ch.def.name.value);
+        f.secondary.push(band_label(ch, band));
+        if let Some(span) = rig.threshold_spans.get("margin") {
+            f.secondary
+                .push(Label::new(*span, format!("margin {}×", sig6(margin))));
         }
+        f.secondary.extend(rate_labels(rig, ch, st.stage));
+        f = f
+            .with_help_opt(help_for(c, || {
+                Some(format!("sample at {} or more", format_hz(margin * band)))
+            }))
+            .with_f64("rate_hz", st.rate_hz())
+            .with_f64("band_hz", band)
+            .with_f64("ratio", round_to(st.ratio, 4))
+            .with_f64("margin", margin)
+            .with_value("stage", st.stage);
+        out.push(with_fix(f, c));
     }
 }

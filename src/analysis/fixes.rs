@@ -1,0 +1,465 @@
+//! Fix candidates for a channel's failing rate verdicts, confirmed by the analysis.
+//!
+//! When a channel fails `nyquist`, `sampling-margin`, `alias-rejection` or
+//! `disturbance-alias`, [`search`] tries, in this order: another divider on the
+//! channel's own clock (when no other channel samples on it and it is the rig's own
+//! clock), sampling on another clock that already runs at a good rate (an edit of the
+//! channel's `clock:`; never "divide by 1", which would make a clock's name lie about
+//! its rate), another decimation factor, a `digital` stage filter's attenuation, and
+//! the order or cutoff of the channel's own analog filter. Every candidate is put to
+//! [`analyse_rates`] — the same verdict code the rules read — and kept only if the
+//! channel then passes those four rules and nothing that passed before fails (module
+//! limits, droop, oversampling). The search is cheap: the rate of a clock or stage
+//! setting is found by binary search (the verdicts improve with the rate), every probe
+//! is one analysis, and results are cached per chain shape, band and requirements so
+//! identical channels of a rig share one search.
+
+use super::{ChannelAnalysis, Context, Limits, RateAnalysis, analyse_rates, module_allows};
+use crate::finding::{Edit, format_db};
+use crate::model::quantity::{Exact, format_hz, to_f64};
+use crate::model::{ClockDef, Response, ordinal};
+use crate::resolve::{FilterOrigin, RChannel, Rig};
+use crate::source::Span;
+use num_traits::{CheckedDiv, CheckedMul};
+use std::collections::HashMap;
+use std::fmt::Write as _;
+use std::sync::Mutex;
+
+/// A change that makes a channel's failing rate verdicts pass, with its edits.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Candidate {
+    /// What the edits do, e.g. "divide `osc` by 256 instead of 512 in clock `slow` to
+    /// sample at 96 kHz".
+    pub description: String,
+    /// The help line: the description and what else the edit changes.
+    pub help: String,
+    /// Byte-exact edits.
+    pub edits: Vec<Edit>,
+}
+
+/// What a candidate changes, independent of where the channel is written (so that
+/// identical channels share it).
+#[derive(Clone, Debug, PartialEq)]
+enum Plan {
+    /// Divide the channel's own clock's source by this instead.
+    Divider(u64),
+    /// Sample on this clock (index into the rig's clocks).
+    Sibling(usize),
+    /// Decimate by this at stage k (1-based).
+    Factor(usize, u32),
+    /// Give stage k's digital filter this attenuation, dB.
+    StageAttenuation(usize, u32),
+    /// Give the channel's analog filter i this order.
+    Order(usize, u32),
+    /// Give the channel's analog filter i this cutoff, Hz.
+    Cutoff(usize, f64),
+}
+
+/// Search results shared by identical channels.
+#[derive(Default)]
+pub struct Cache {
+    map: Mutex<HashMap<String, Option<Plan>>>,
+}
+
+/// The analysis' question: with `ch` (maybe changed) sampled at `fs0`, does the channel
+/// pass the rate rules a fix aims at, and keep passing everything that passed before?
+fn passes(
+    rig: &Rig,
+    index: usize,
+    ch: &RChannel,
+    fs0: Exact,
+    limits: &Limits,
+    before: &RateAnalysis,
+) -> bool {
+    let Ok(after) = analyse_rates(rig, index, ch, fs0, limits, before.enabled) else {
+        return false;
+    };
+    if !after.rates_pass() {
+        return false;
+    }
+    let droop_ok = before.droop_failure().is_some() || after.droop_failure().is_none();
+    let over_ok = before.oversampling_failure().is_some() || after.oversampling_failure().is_none();
+    droop_ok && over_ok
+}
+
+/// The key of a channel's search: everything the verdicts depend on, nothing about
+/// where it is written.
+fn shape_key(rig: &Rig, index: usize, ch: &RChannel) -> String {
+    let mut k = String::new();
+    let _ = write!(
+        k,
+        "{:?}|{:?}|{:?}|{:?}|{:?}|{}|{:?}",
+        rig.file,
+        ch.clock,
+        ch.sensor,
+        ch.module,
+        ch.band.as_ref().map(|b| b.hz),
+        ch.rejection.0,
+        ch.filters_origin
+    );
+    for f in &ch.filters {
+        let _ = write!(k, "|f{:?}", f.response);
+    }
+    for st in &ch.def.decimate {
+        let _ = write!(
+            k,
+            "|d{}:{:?}",
+            st.factor.value,
+            st.filter.as_ref().map(|f| &f.response)
+        );
+    }
+    for (di, targets) in rig.disturbance_targets.iter().enumerate() {
+        if targets.contains(&index) {
+            let _ = write!(k, "|t{di}");
+        }
+    }
+    k
+}
+
+/// Search a confirmed fix for channel `channel` whose analysis is `analysis`.
+pub fn search(
+    rig: &Rig,
+    channel: usize,
+    analysis: &ChannelAnalysis,
+    limits: &Limits,
+    ctx: &Context,
+) -> Option<Candidate> {
+    let before = analysis.rates.as_ref().ok()?;
+    if before.rates_pass() {
+        return None;
+    }
+    let ch = &rig.channels[channel];
+    let key = shape_key(rig, channel, ch);
+    let cached = ctx
+        .cache
+        .map
+        .lock()
+        .expect("no thread panicked")
+        .get(&key)
+        .cloned();
+    let plan = match cached {
+        Some(p) => p,
+        None => {
+            let p = find_plan(rig, channel, ch, before, limits);
+            ctx.cache
+                .map
+                .lock()
+                .expect("no thread panicked")
+                .insert(key, p.clone());
+            p
+        }
+    };
+    materialise(rig, ch, &plan?)
+}
+
+/// Largest `n` in `lo..=hi` for which `ok(n)` holds, assuming `ok` holds for every `n`
+/// up to some point (the rate falls as `n` grows). The result is confirmed; when the
+/// assumption fails (a resonance that folds in only at some rates), a short scan below
+/// the bisection point finds the next `n` that passes.
+fn largest_passing(lo: u64, hi: u64, ok: impl Fn(u64) -> bool) -> Option<u64> {
+    if lo > hi {
+        return None;
+    }
+    let (mut a, mut b) = (lo, hi);
+    // Invariant: every n < a is assumed to pass; every n > b fails.
+    while a < b {
+        let mid = a + (b - a).div_ceil(2);
+        if ok(mid) { a = mid } else { b = mid - 1 }
+    }
+    (lo..=a).rev().take(32).find(|&n| ok(n))
+}
+
+fn find_plan(
+    rig: &Rig,
+    index: usize,
+    ch: &RChannel,
+    before: &RateAnalysis,
+    limits: &Limits,
+) -> Option<Plan> {
+    let clock = ch.clock?;
+    let fs0 = rig.clocks[clock].rate?;
+    let module_ok = |r: &Exact| module_allows(rig, ch.module, r);
+
+    // 1. Another divider on the channel's own clock, when nobody else samples on it and
+    //    it is defined in the rig itself.
+    let c = &rig.clocks[clock];
+    if let ClockDef::Derived {
+        divide: Some(d),
+        multiply,
+        ..
+    } = &c.def.def
+        && rig.fanout[clock] == 1
+        && c.def.name.span.file == rig.file
+        && let Some(src) = c.parent.and_then(|p| rig.clocks[p].rate)
+        && let Some(base) = src.checked_mul(&Exact::from_integer(
+            multiply.as_ref().map_or(1, |m| i128::from(m.value)),
+        ))
+    {
+        let rate = |nd: u64| base.checked_div(&Exact::from_integer(i128::from(nd)));
+        let ok = |nd: u64| {
+            rate(nd).is_some_and(|r| module_ok(&r) && passes(rig, index, ch, r, limits, before))
+        };
+        // Dividers below 2 would sample on the source itself: that is a sibling.
+        if d.value > 2
+            && let Some(nd) = largest_passing(2, d.value - 1, ok)
+        {
+            return Some(Plan::Divider(nd));
+        }
+    }
+
+    // 2. A clock that already runs at a good rate: the lowest such.
+    let mut others: Vec<(usize, Exact)> = rig
+        .clocks
+        .iter()
+        .enumerate()
+        .filter(|(i, k)| *i != clock && !k.in_cycle && plain_name(&k.def.name.value))
+        .filter_map(|(i, k)| Some((i, k.rate?)))
+        .filter(|(_, r)| *r != fs0)
+        .collect();
+    others.sort_by(|a, b| a.1.cmp(&b.1));
+    if let Some((i, _)) = others
+        .iter()
+        .find(|(_, r)| module_ok(r) && passes(rig, index, ch, *r, limits, before))
+    {
+        return Some(Plan::Sibling(*i));
+    }
+
+    // 3. Another decimation factor, failing stages first.
+    let failing: Vec<usize> = failing_stages(before);
+    for &k in failing.iter().filter(|&&k| k >= 1) {
+        let f = ch.def.decimate[k - 1].factor.value;
+        let ok = |nf: u64| {
+            let mut t = ch.clone();
+            t.def.decimate[k - 1].factor.value = nf as u32;
+            passes(rig, index, &t, fs0, limits, before)
+        };
+        if f > 2
+            && let Some(nf) = largest_passing(2, u64::from(f) - 1, ok)
+        {
+            return Some(Plan::Factor(k, nf as u32));
+        }
+    }
+
+    // 4. A digital stage filter's attenuation.
+    for &k in failing.iter().filter(|&&k| k >= 1) {
+        let Some(flt) = &ch.def.decimate[k - 1].filter else {
+            continue;
+        };
+        let Response::Digital { attenuation, .. } = flt.response else {
+            continue;
+        };
+        if flt.values.attenuation.is_none() {
+            continue;
+        }
+        let with = |db: u32| {
+            let mut t = ch.clone();
+            if let Some(f) = t.def.decimate[k - 1].filter.as_mut()
+                && let Response::Digital { attenuation, .. } = &mut f.response
+            {
+                *attenuation = f64::from(db);
+            }
+            passes(rig, index, &t, fs0, limits, before)
+        };
+        // More attenuation only helps: the smallest that passes, by bisection.
+        let (mut lo, mut hi) = (attenuation.floor() as u32 + 1, 300u32);
+        if lo <= hi && with(hi) {
+            while lo < hi {
+                let mid = lo + (hi - lo) / 2;
+                if with(mid) { hi = mid } else { lo = mid + 1 }
+            }
+            return Some(Plan::StageAttenuation(k, lo));
+        }
+    }
+
+    // 5. The channel's own analog filter: a higher order, else a lower cutoff.
+    if ch.filters_origin == FilterOrigin::Channel
+        && let Some((i, flt)) = ch
+            .filters
+            .iter()
+            .enumerate()
+            .find(|(_, f)| f.response.is_analog())
+    {
+        let set = |t: &mut RChannel, order: Option<u32>, cutoff: Option<f64>| {
+            if let Response::Butterworth { order: o, cutoff: c }
+            | Response::Bessel { order: o, cutoff: c }
+            | Response::Chebyshev { order: o, cutoff: c, .. } = &mut t.filters[i].response
+            {
+                if let Some(n) = order {
+                    *o = n;
+                }
+                if let Some(x) = cutoff {
+                    *c = x;
+                }
+            }
+        };
+        let (order, cutoff) = match flt.response {
+            Response::Butterworth { order, cutoff }
+            | Response::Bessel { order, cutoff }
+            | Response::Chebyshev { order, cutoff, .. } => (order, cutoff),
+            _ => return None,
+        };
+        if flt.values.order.is_some() {
+            for n in order + 1..=12 {
+                let mut t = ch.clone();
+                set(&mut t, Some(n), None);
+                if passes(rig, index, &t, fs0, limits, before) {
+                    return Some(Plan::Order(i, n));
+                }
+            }
+        }
+        if flt.values.cutoff.is_some() {
+            // The highest cutoff (three significant digits) below the current one that
+            // passes: bisection in f64 picks it, the analysis confirms it.
+            let band = before.band_hz;
+            let ok = |x: f64| {
+                let mut t = ch.clone();
+                set(&mut t, None, Some(x));
+                passes(rig, index, &t, fs0, limits, before)
+            };
+            let (mut lo, mut hi) = (band * 0.5, cutoff);
+            if ok(lo) {
+                for _ in 0..40 {
+                    let mid = 0.5 * (lo + hi);
+                    if ok(mid) { lo = mid } else { hi = mid }
+                }
+                let x = round_down_3(lo);
+                if x > 0.0 && x < cutoff && ok(x) {
+                    return Some(Plan::Cutoff(i, x));
+                }
+            }
+        }
+    }
+    None
+}
+
+/// The rate changes whose verdicts fail, in order.
+fn failing_stages(a: &RateAnalysis) -> Vec<usize> {
+    let mut v: Vec<usize> = Vec::new();
+    let mut add = |k: usize| {
+        if !v.contains(&k) {
+            v.push(k);
+        }
+    };
+    if let Some(s) = a.nyquist_failure() {
+        add(s.stage);
+    }
+    if let Some(s) = a.margin_failure() {
+        add(s.stage);
+    }
+    if let Some(w) = a.alias_failure() {
+        add(w.stage);
+    }
+    for (_, s) in a.disturbance_failures() {
+        add(s.stage);
+    }
+    v.sort_unstable();
+    v
+}
+
+/// A value rounded down to three significant digits.
+fn round_down_3(hz: f64) -> f64 {
+    if !(hz.is_finite() && hz > 0.0) {
+        return hz;
+    }
+    let p = 10f64.powi(hz.log10().floor() as i32 - 2);
+    // Guard against 1299.9999 → 1290: round the quotient to 9 digits first.
+    let q = ((hz / p) * 1e9).round() / 1e9;
+    q.floor() * p
+}
+
+/// A name that can stand as a plain YAML scalar.
+fn plain_name(s: &str) -> bool {
+    !s.is_empty()
+        && s.chars()
+            .all(|c| c.is_ascii_alphanumeric() || matches!(c, '-' | '_' | '.'))
+        && !s.starts_with(['-', '.'])
+}
+
+fn edit(span: Span, replacement: impl Into<String>) -> Edit {
+    Edit {
+        span,
+        replacement: replacement.into(),
+    }
+}
+
+fn materialise(rig: &Rig, ch: &RChannel, plan: &Plan) -> Option<Candidate> {
+    let (description, help, edits) = match *plan {
+        Plan::Divider(nd) => {
+            let clock = ch.clock?;
+            let c = &rig.clocks[clock];
+            let ClockDef::Derived {
+                source,
+                divide: Some(d),
+                multiply,
+            } = &c.def.def
+            else {
+                return None;
+            };
+            let src = c.parent.and_then(|p| rig.clocks[p].rate)?;
+            let m = multiply.as_ref().map_or(1, |m| i128::from(m.value));
+            let rate = src.checked_mul(&Exact::from_integer(m))? / Exact::from_integer(i128::from(nd));
+            let desc = format!(
+                "divide `{}` by {nd} instead of {} in clock `{}` to sample at {}",
+                source.value,
+                d.value,
+                c.def.name.value,
+                format_hz(to_f64(&rate))
+            );
+            let help = format!("{desc} (no other channel samples on it)");
+            (desc, help, vec![edit(d.span, nd.to_string())])
+        }
+        Plan::Sibling(i) => {
+            let k = &rig.clocks[i];
+            let span = ch.def.clock.as_ref()?.span;
+            let desc = format!(
+                "sample on `{}` directly (it runs at {})",
+                k.def.name.value,
+                format_hz(to_f64(&k.rate?))
+            );
+            (desc.clone(), desc, vec![edit(span, k.def.name.value.clone())])
+        }
+        Plan::Factor(k, nf) => {
+            let st = &ch.def.decimate[k - 1];
+            let desc = format!(
+                "decimate by {nf} instead of {} at stage {k}",
+                st.factor.value
+            );
+            (desc.clone(), desc, vec![edit(st.factor.span, nf.to_string())])
+        }
+        Plan::StageAttenuation(k, db) => {
+            let flt = ch.def.decimate[k - 1].filter.as_ref()?;
+            let desc = format!(
+                "give the digital filter of decimation stage {k} {} of stopband attenuation",
+                format_db(f64::from(db)).replace(".00", "")
+            );
+            (
+                desc.clone(),
+                desc,
+                vec![edit(flt.values.attenuation?, format!("{db} dB"))],
+            )
+        }
+        Plan::Order(i, n) => {
+            let flt = &ch.filters[i];
+            let desc = format!(
+                "make the anti-alias filter ({}) {} order",
+                flt.response.describe(),
+                ordinal(n)
+            );
+            (desc.clone(), desc, vec![edit(flt.values.order?, n.to_string())])
+        }
+        Plan::Cutoff(i, hz) => {
+            let flt = &ch.filters[i];
+            let desc = format!(
+                "lower the cutoff of the anti-alias filter ({}) to {}",
+                flt.response.describe(),
+                format_hz(hz)
+            );
+            (desc.clone(), desc, vec![edit(flt.values.cutoff?, format_hz(hz))])
+        }
+    };
+    Some(Candidate {
+        description,
+        help,
+        edits,
+    })
+}
