@@ -49,6 +49,9 @@ enum Plan {
     Factor(usize, u32),
     /// Give stage k's digital filter this attenuation, dB.
     StageAttenuation(usize, u32),
+    /// Replace stage k's filter by a digital one: passband edge, stopband edge (as
+    /// hundredths of the stage's output rate) and attenuation, dB.
+    StageFilter(usize, u32, u32, u32),
     /// Give the channel's analog filter i this order.
     Order(usize, u32),
     /// Give the channel's analog filter i this cutoff, Hz.
@@ -74,12 +77,69 @@ fn passes(
     let Ok(after) = analyse_rates(rig, index, ch, fs0, limits, before.enabled) else {
         return false;
     };
-    if !after.rates_pass() {
-        return false;
-    }
-    let droop_ok = before.droop_failure().is_some() || after.droop_failure().is_none();
-    let over_ok = before.oversampling_failure().is_some() || after.oversampling_failure().is_none();
-    droop_ok && over_ok
+    after.rates_pass() && no_new_failures(before, &after)
+}
+
+/// Nothing that passed in `before` fails in `after`.
+fn no_new_failures(before: &RateAnalysis, after: &RateAnalysis) -> bool {
+    let kept = |b: bool, a: bool| b || !a;
+    kept(
+        before.nyquist_failure().is_some(),
+        after.nyquist_failure().is_some(),
+    ) && kept(
+        before.margin_failure().is_some(),
+        after.margin_failure().is_some(),
+    ) && kept(
+        before.alias_failure().is_some(),
+        after.alias_failure().is_some(),
+    ) && kept(
+        before.droop_failure().is_some(),
+        after.droop_failure().is_some(),
+    ) && kept(
+        before.oversampling_failure().is_some(),
+        after.oversampling_failure().is_some(),
+    ) && after
+        .disturbance_failures()
+        .all(|(d, _)| before.disturbance_failures().any(|(e, _)| e.index == d.index))
+}
+
+/// At most this many other channels on a clock are re-analysed to confirm a divider
+/// change that reaches them too (beyond it, sampling on another clock is proposed).
+const SHARED_CLOCK_LIMIT: usize = 8;
+
+/// The other channels on `clock` keep every verdict that passes when the clock's rate
+/// is scaled by `scale`.
+fn others_keep_passing(
+    rig: &Rig,
+    index: usize,
+    clock: usize,
+    scale: &Exact,
+    limits: &Limits,
+    enabled: super::Enabled,
+) -> bool {
+    rig.channels_under(clock)
+        .into_iter()
+        .filter(|&o| o != index)
+        .all(|o| {
+            let ch = &rig.channels[o];
+            let Some(fs0) = rig.adc_rate(ch) else {
+                return true;
+            };
+            let Some(new) = fs0.checked_mul(scale) else {
+                return false;
+            };
+            if !ch.ok {
+                return module_allows(rig, ch.module, &new) || !module_allows(rig, ch.module, &fs0);
+            }
+            let (Ok(b), Ok(a)) = (
+                analyse_rates(rig, o, ch, fs0, limits, enabled),
+                analyse_rates(rig, o, ch, new, limits, enabled),
+            ) else {
+                return true;
+            };
+            no_new_failures(&b, &a)
+                && (module_allows(rig, ch.module, &new) || !module_allows(rig, ch.module, &fs0))
+        })
 }
 
 /// The key of a channel's search: everything the verdicts depend on, nothing about
@@ -180,15 +240,15 @@ fn find_plan(
     let fs0 = rig.clocks[clock].rate?;
     let module_ok = |r: &Exact| module_allows(rig, ch.module, r);
 
-    // 1. Another divider on the channel's own clock, when nobody else samples on it and
-    //    it is defined in the rig itself.
+    // 1. Another divider on the channel's own clock, when it is defined in the rig itself
+    //    and few other channels sample on it (they are checked too).
     let c = &rig.clocks[clock];
     if let ClockDef::Derived {
         divide: Some(d),
         multiply,
         ..
     } = &c.def.def
-        && rig.fanout[clock] == 1
+        && rig.fanout[clock] <= SHARED_CLOCK_LIMIT + 1
         && c.def.name.span.file == rig.file
         && let Some(src) = c.parent.and_then(|p| rig.clocks[p].rate)
         && let Some(base) = src.checked_mul(&Exact::from_integer(
@@ -196,8 +256,21 @@ fn find_plan(
         ))
     {
         let rate = |nd: u64| base.checked_div(&Exact::from_integer(i128::from(nd)));
+        let shared = rig.fanout[clock] > 1;
         let ok = |nd: u64| {
-            rate(nd).is_some_and(|r| module_ok(&r) && passes(rig, index, ch, r, limits, before))
+            rate(nd).is_some_and(|r| {
+                module_ok(&r)
+                    && passes(rig, index, ch, r, limits, before)
+                    && (!shared
+                        || others_keep_passing(
+                            rig,
+                            index,
+                            clock,
+                            &Exact::new(i128::from(d.value), i128::from(nd)),
+                            limits,
+                            before.enabled,
+                        ))
+            })
         };
         // Dividers below 2 would sample on the source itself: that is a sibling.
         if d.value > 2
@@ -268,6 +341,45 @@ fn find_plan(
                 if with(mid) { hi = mid } else { lo = mid + 1 }
             }
             return Some(Plan::StageAttenuation(k, lo));
+        }
+    }
+
+    // 4b. A stage whose filter is not digital (a sinc): a digital filter in its place,
+    //     edges at the band and at the lowest frequency that folds in.
+    for &k in failing.iter().filter(|&&k| k >= 1) {
+        let Some(flt) = &ch.def.decimate[k - 1].filter else {
+            continue;
+        };
+        if matches!(flt.response, Response::Digital { .. }) {
+            continue;
+        }
+        let Some(st) = before.stages.get(k) else {
+            continue;
+        };
+        let (fs, band) = (st.rate_hz(), before.band_hz);
+        let pb = (band / fs * 100.0).ceil() as u32;
+        let sb = ((fs - band) / fs * 100.0).floor() as u32;
+        if pb == 0 || sb <= pb {
+            continue;
+        }
+        let with = |db: u32| {
+            let mut t = ch.clone();
+            if let Some(f) = t.def.decimate[k - 1].filter.as_mut() {
+                f.response = Response::Digital {
+                    passband_edge: f64::from(pb) / 100.0,
+                    stopband_edge: f64::from(sb) / 100.0,
+                    attenuation: f64::from(db),
+                };
+            }
+            passes(rig, index, &t, fs0, limits, before)
+        };
+        let (mut lo, mut hi) = (before.required_db.floor().max(1.0) as u32, 300u32);
+        if with(hi) {
+            while lo < hi {
+                let mid = lo + (hi - lo) / 2;
+                if with(mid) { hi = mid } else { lo = mid + 1 }
+            }
+            return Some(Plan::StageFilter(k, pb, sb, lo));
         }
     }
 
@@ -405,7 +517,11 @@ fn materialise(rig: &Rig, ch: &RChannel, plan: &Plan) -> Option<Candidate> {
                 c.def.name.value,
                 format_hz(to_f64(&rate))
             );
-            let help = format!("{desc} (no other channel samples on it)");
+            let help = match rig.fanout[clock].saturating_sub(1) {
+                0 => format!("{desc} (no other channel samples on it)"),
+                1 => format!("{desc} (also changes 1 other channel of this rig, which keeps passing)"),
+                n => format!("{desc} (also changes {n} other channels of this rig, which keep passing)"),
+            };
             (desc, help, vec![edit(d.span, nd.to_string())])
         }
         Plan::Sibling(i) => {
@@ -420,9 +536,15 @@ fn materialise(rig: &Rig, ch: &RChannel, plan: &Plan) -> Option<Candidate> {
         }
         Plan::Factor(k, nf) => {
             let st = &ch.def.decimate[k - 1];
+            let mut rate = rig.adc_rate(ch)?;
+            for s in &ch.def.decimate[..k - 1] {
+                rate = rate.checked_div(&Exact::from_integer(i128::from(s.factor.value)))?;
+            }
+            let rate = rate.checked_div(&Exact::from_integer(i128::from(nf)))?;
             let desc = format!(
-                "decimate by {nf} instead of {} at stage {k}",
-                st.factor.value
+                "decimate by {nf} instead of {} at stage {k} to leave {}",
+                st.factor.value,
+                format_hz(to_f64(&rate))
             );
             (desc.clone(), desc, vec![edit(st.factor.span, nf.to_string())])
         }
@@ -437,6 +559,16 @@ fn materialise(rig: &Rig, ch: &RChannel, plan: &Plan) -> Option<Candidate> {
                 desc,
                 vec![edit(flt.values.attenuation?, format!("{db} dB"))],
             )
+        }
+        Plan::StageFilter(k, pb, sb, db) => {
+            let flt = ch.def.decimate[k - 1].filter.as_ref()?;
+            let text = format!(
+                "{{ response: digital, passband-edge: {}, stopband-edge: {}, attenuation: {db} dB }}",
+                f64::from(pb) / 100.0,
+                f64::from(sb) / 100.0
+            );
+            let desc = format!("give decimation stage {k} `filter: {text}`");
+            (desc.clone(), desc, vec![edit(flt.span, text)])
         }
         Plan::Order(i, n) => {
             let flt = &ch.filters[i];
