@@ -267,6 +267,9 @@ fn shared_divider_change_is_derived_fans_out_and_fails_the_gate() {
             ("sampling-margin", "warning", "acc-top", &a),
             ("sampling-margin", "warning", "acc-mid", &a),
             ("nyquist", "error", "strain-base", &a),
+            // 3 kHz also moves the digital filter's passband edge below the band:
+            // passband-droop is reported whatever nyquist says.
+            ("passband-droop", "warning", "strain-base", &a),
             ("sampling-margin", "warning", "guy-acc-n", &b),
         ])
     );
@@ -278,7 +281,7 @@ fn shared_divider_change_is_derived_fans_out_and_fails_the_gate() {
         json!({
             "channels": { "added": 0, "removed": 0, "changed": 5, "derived": 5 },
             "clocks": 4,
-            "introduced": { "error": 1, "warning": 3, "note": 0 },
+            "introduced": { "error": 1, "warning": 4, "note": 0 },
             "resolved": { "error": 0, "warning": 0, "note": 0 },
         })
     );
@@ -296,7 +299,7 @@ fn shared_divider_human_and_markdown() {
     assert!(out.contains("      ratio              3 → 1.5\n"));
     assert!(out.contains("      alias attenuation  100.00 dB at the ADC → —\n"));
     assert!(out.ends_with(
-        "5 channels changed (5 derived), 0 added, 0 removed; 4 clocks changed; introduced 1 error, 3 warnings, 0 notes; resolved 0 errors, 0 warnings, 0 notes\n"
+        "5 channels changed (5 derived), 0 added, 0 removed; 4 clocks changed; introduced 1 error, 4 warnings, 0 notes; resolved 0 errors, 0 warnings, 0 notes\n"
     ), "{out}");
     // Deterministic: a second run prints the same bytes.
     assert_eq!(run(&["diff", SHARED_OLD, SHARED_NEW]).0, out);
@@ -318,7 +321,7 @@ fn shared_divider_human_and_markdown() {
         format!(
             "| `{b}` | `guy-load-n` | derived from clock `wf-frame` | `mast-b-quarter` | 12 kHz → 6 kHz | 2 kHz | 6 → 3 | 100.00 dB |"
         ),
-        "**Introduced findings** (4)".to_string(),
+        "**Introduced findings** (5)".to_string(),
         format!(
             "- **error** `nyquist` at `{a}:28:12`: `strain-base` samples at 3 kHz, which is not above twice its 2 kHz band"
         ),
@@ -349,7 +352,12 @@ fn a_fix_resolves_the_finding_and_passes() {
     assert_eq!(v["introduced"], json!([]));
     assert_eq!(
         finding_ids(&v["resolved"]),
-        ids(&[("nyquist", "error", "mic-left", old)])
+        // At 24 kHz the digital filter's passband edge (0.45 × 24 kHz) also lies below
+        // the 20 kHz band: the droop is reported beside nyquist, and goes with it.
+        ids(&[
+            ("nyquist", "error", "mic-left", old),
+            ("passband-droop", "warning", "mic-left", old)
+        ])
     );
     assert_eq!(v["resolved"][0]["line"], 13);
     assert_eq!(
@@ -459,12 +467,14 @@ fn old_findings_and_an_unrelated_change_pass() {
             .map(|f| f["rule"].as_str().unwrap().to_string())
             .collect()
     };
-    assert_eq!(rules(&co), ["nyquist", "sampling-margin"]);
-    assert_eq!(rules(&cn), ["nyquist", "sampling-margin"]);
+    // The 24 kHz channel's digital filter also droops the band (reported whatever
+    // nyquist says).
+    assert_eq!(rules(&co), ["nyquist", "passband-droop", "sampling-margin"]);
+    assert_eq!(rules(&cn), ["nyquist", "passband-droop", "sampling-margin"]);
     assert_ne!(co["findings"][0]["line"], cn["findings"][0]["line"]);
-    assert_ne!(co["findings"][1]["line"], cn["findings"][1]["line"]);
+    assert_ne!(co["findings"][2]["line"], cn["findings"][2]["line"]);
     assert_ne!(co["findings"][0]["help"], cn["findings"][0]["help"]);
-    assert_eq!(co["findings"][1]["values"]["ratio"], 2.205);
+    assert_eq!(co["findings"][2]["values"]["ratio"], 2.205);
 
     let (out, err, code) = run(&["diff", old, new, "--format", "json", "--fail-on", "warning"]);
     assert_eq!(code, 0, "nothing introduced\n{out}{err}");

@@ -98,9 +98,11 @@ fn no_new_failures(before: &RateAnalysis, after: &RateAnalysis) -> bool {
     ) && kept(
         before.oversampling_failure().is_some(),
         after.oversampling_failure().is_some(),
-    ) && after
-        .disturbance_failures()
-        .all(|(d, _)| before.disturbance_failures().any(|(e, _)| e.index == d.index))
+    ) && after.disturbance_failures().all(|(d, _)| {
+        before
+            .disturbance_failures()
+            .any(|(e, _)| e.index == d.index)
+    })
 }
 
 /// At most this many other channels on a clock are re-analysed to confirm a divider
@@ -289,7 +291,7 @@ fn find_plan(
         .filter_map(|(i, k)| Some((i, k.rate?)))
         .filter(|(_, r)| *r != fs0)
         .collect();
-    others.sort_by(|a, b| a.1.cmp(&b.1));
+    others.sort_by_key(|o| o.1);
     if let Some((i, _)) = others
         .iter()
         .find(|(_, r)| module_ok(r) && passes(rig, index, ch, *r, limits, before))
@@ -392,9 +394,19 @@ fn find_plan(
             .find(|(_, f)| f.response.is_analog())
     {
         let set = |t: &mut RChannel, order: Option<u32>, cutoff: Option<f64>| {
-            if let Response::Butterworth { order: o, cutoff: c }
-            | Response::Bessel { order: o, cutoff: c }
-            | Response::Chebyshev { order: o, cutoff: c, .. } = &mut t.filters[i].response
+            if let Response::Butterworth {
+                order: o,
+                cutoff: c,
+            }
+            | Response::Bessel {
+                order: o,
+                cutoff: c,
+            }
+            | Response::Chebyshev {
+                order: o,
+                cutoff: c,
+                ..
+            } = &mut t.filters[i].response
             {
                 if let Some(n) = order {
                     *o = n;
@@ -509,7 +521,8 @@ fn materialise(rig: &Rig, ch: &RChannel, plan: &Plan) -> Option<Candidate> {
             };
             let src = c.parent.and_then(|p| rig.clocks[p].rate)?;
             let m = multiply.as_ref().map_or(1, |m| i128::from(m.value));
-            let rate = src.checked_mul(&Exact::from_integer(m))? / Exact::from_integer(i128::from(nd));
+            let rate =
+                src.checked_mul(&Exact::from_integer(m))? / Exact::from_integer(i128::from(nd));
             let desc = format!(
                 "divide `{}` by {nd} instead of {} in clock `{}` to sample at {}",
                 source.value,
@@ -519,8 +532,12 @@ fn materialise(rig: &Rig, ch: &RChannel, plan: &Plan) -> Option<Candidate> {
             );
             let help = match rig.fanout[clock].saturating_sub(1) {
                 0 => format!("{desc} (no other channel samples on it)"),
-                1 => format!("{desc} (also changes 1 other channel of this rig, which keeps passing)"),
-                n => format!("{desc} (also changes {n} other channels of this rig, which keep passing)"),
+                1 => format!(
+                    "{desc} (also changes 1 other channel of this rig, which keeps passing)"
+                ),
+                n => format!(
+                    "{desc} (also changes {n} other channels of this rig, which keep passing)"
+                ),
             };
             (desc, help, vec![edit(d.span, nd.to_string())])
         }
@@ -532,7 +549,11 @@ fn materialise(rig: &Rig, ch: &RChannel, plan: &Plan) -> Option<Candidate> {
                 k.def.name.value,
                 format_hz(to_f64(&k.rate?))
             );
-            (desc.clone(), desc, vec![edit(span, k.def.name.value.clone())])
+            (
+                desc.clone(),
+                desc,
+                vec![edit(span, k.def.name.value.clone())],
+            )
         }
         Plan::Factor(k, nf) => {
             let st = &ch.def.decimate[k - 1];
@@ -546,7 +567,11 @@ fn materialise(rig: &Rig, ch: &RChannel, plan: &Plan) -> Option<Candidate> {
                 st.factor.value,
                 format_hz(to_f64(&rate))
             );
-            (desc.clone(), desc, vec![edit(st.factor.span, nf.to_string())])
+            (
+                desc.clone(),
+                desc,
+                vec![edit(st.factor.span, nf.to_string())],
+            )
         }
         Plan::StageAttenuation(k, db) => {
             let flt = ch.def.decimate[k - 1].filter.as_ref()?;
@@ -577,7 +602,11 @@ fn materialise(rig: &Rig, ch: &RChannel, plan: &Plan) -> Option<Candidate> {
                 flt.response.describe(),
                 ordinal(n)
             );
-            (desc.clone(), desc, vec![edit(flt.values.order?, n.to_string())])
+            (
+                desc.clone(),
+                desc,
+                vec![edit(flt.values.order?, n.to_string())],
+            )
         }
         Plan::Cutoff(i, hz) => {
             let flt = &ch.filters[i];
@@ -586,7 +615,11 @@ fn materialise(rig: &Rig, ch: &RChannel, plan: &Plan) -> Option<Candidate> {
                 flt.response.describe(),
                 format_hz(hz)
             );
-            (desc.clone(), desc, vec![edit(flt.values.cutoff?, format_hz(hz))])
+            (
+                desc.clone(),
+                desc,
+                vec![edit(flt.values.cutoff?, format_hz(hz))],
+            )
         }
     };
     Some(Candidate {

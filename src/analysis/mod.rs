@@ -247,7 +247,11 @@ fn analyse_with(rig: &Rig, channel: usize, limits: &Limits, ctx: &Context) -> Ch
         Some(fs0) => analyse_rates(rig, channel, ch, fs0, limits, ctx.enabled),
         None => Err(NotAnalysed::Unresolved),
     };
-    let rates = if ch.ok { rates } else { Err(NotAnalysed::Unresolved) };
+    let rates = if ch.ok {
+        rates
+    } else {
+        Err(NotAnalysed::Unresolved)
+    };
     let mut out = ChannelAnalysis {
         channel,
         module_rate,
@@ -805,7 +809,9 @@ impl RateAnalysis {
 
     /// The disturbances that fold into the band without enough attenuation, with the
     /// rate change and the attenuation there.
-    pub fn disturbance_failures(&self) -> impl Iterator<Item = (&DisturbanceInfo, &DisturbanceStep)> {
+    pub fn disturbance_failures(
+        &self,
+    ) -> impl Iterator<Item = (&DisturbanceInfo, &DisturbanceStep)> {
         self.disturbances.iter().filter_map(|d| match d.outcome {
             DisturbanceOutcome::FoldsIn { stage, pass: false } => {
                 d.steps.iter().find(|s| s.stage == stage).map(|s| (d, s))

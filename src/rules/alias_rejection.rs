@@ -1,8 +1,8 @@
 //! `alias-rejection`: attenuation where energy folds into the band, at every rate change.
 
-use crate::analysis::RigAnalysis;
 use super::rates::{help_for, rate_channels, rate_labels, with_fix};
 use super::{Rule, Stage};
+use crate::analysis::RigAnalysis;
 use crate::finding::{Finding, Label, Severity, format_db, round_to};
 use crate::model::quantity::format_hz;
 use crate::resolve::Origin;

@@ -2,8 +2,8 @@
 //!
 //! A channel's data rate is its final rate × sample-bits ÷ 8 bytes per second.
 
-use crate::analysis::RigAnalysis;
 use super::{Rule, Stage};
+use crate::analysis::RigAnalysis;
 use crate::finding::{Finding, Severity};
 use crate::model::quantity::{format_bytes, to_f64};
 use crate::resolve::Rig;

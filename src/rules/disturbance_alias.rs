@@ -1,8 +1,8 @@
 //! `disturbance-alias`: a known tone above half a rate that folds into the band.
 
-use crate::analysis::RigAnalysis;
 use super::rates::{help_for, rate_channels, rate_labels, with_fix};
 use super::{Rule, Stage};
+use crate::analysis::RigAnalysis;
 use crate::finding::{Finding, Label, Severity, format_db, round_to};
 use crate::model::quantity::{format_hz, sig6};
 
@@ -69,14 +69,23 @@ fn check(a: &RigAnalysis, out: &mut Vec<Finding>) {
     for (di, _, ch, c, r, d, step) in fails {
         let def = &rig.disturbances[di];
         let Some(freq) = &def.frequency else { continue };
-        let (fd, folded, band, at) = (d.frequency_hz, step.lands_at_hz, r.band_hz, step.attenuation_db);
+        let (fd, folded, band, at) = (
+            d.frequency_hz,
+            step.lands_at_hz,
+            r.band_hz,
+            step.attenuation_db,
+        );
         let required = d.required_db;
         let st = &r.stages[step.stage];
         let name = &ch.def.name.value;
         let where_ = if step.stage == 0 {
             format!("the ADC ({})", format_hz(step.rate_hz))
         } else {
-            format!("decimation stage {} ({})", step.stage, format_hz(step.rate_hz))
+            format!(
+                "decimation stage {} ({})",
+                step.stage,
+                format_hz(step.rate_hz)
+            )
         };
         let mut f = DISTURBANCE_ALIAS
             .finding(

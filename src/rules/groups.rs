@@ -1,7 +1,7 @@
 //! `group-clock`, `group-phase` and `group-incomplete`: channels analysed together.
 
-use crate::analysis::RigAnalysis;
 use super::{Rule, Stage};
+use crate::analysis::RigAnalysis;
 use crate::finding::{Finding, Severity, round_to};
 use crate::model::quantity::{format_hz, format_seconds, sig6, to_f64};
 use crate::model::{Filter, Group, Response};

@@ -1,12 +1,11 @@
 //! Single-value checks: `module-rate`, `missing-band`, `passband-droop`, `sensor-band`,
 //! `oversampling`, `unused-clock`.
 
-use crate::analysis::{ModuleLimit, RigAnalysis};
 use super::rates::{clock_labels, rate_channels};
 use super::{Rule, Stage};
+use crate::analysis::{ModuleLimit, RigAnalysis};
 use crate::finding::{Finding, Label, Severity, format_db, round_to};
 use crate::model::quantity::{format_hz, sig6, to_f64};
-
 
 /// `module-rate`.
 pub static MODULE_RATE: Rule = Rule {
@@ -95,7 +94,9 @@ fn check_module_rate(a: &RigAnalysis, out: &mut Vec<Finding>) {
                 );
             }
             Some(ModuleLimit::Rates { nearest }) => {
-                let Some(rates) = m.rates.as_ref() else { continue };
+                let Some(rates) = m.rates.as_ref() else {
+                    continue;
+                };
                 let list: Vec<String> = rates
                     .value
                     .iter()

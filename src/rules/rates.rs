@@ -1,7 +1,7 @@
 //! `nyquist` and `sampling-margin`: the rate at every rate change against the band.
 
-use crate::analysis::RigAnalysis;
 use super::{Rule, Stage};
+use crate::analysis::RigAnalysis;
 use crate::analysis::{ChannelAnalysis, RateAnalysis, StageInfo};
 use crate::finding::{Finding, Fix, Label, Severity, round_to};
 use crate::model::ClockDef;
