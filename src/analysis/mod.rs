@@ -684,8 +684,9 @@ pub struct PassbandInfo {
     pub attenuation_db: f64,
     /// Each filter's share, named by its place in the chain.
     pub contributions: Vec<(String, f64)>,
-    /// The filter that attenuates the band edge most ("channel filter: 4th-order …").
-    pub largest: Option<String>,
+    /// The filter that attenuates the band edge most ("channel filter: 4th-order …")
+    /// and where it is written.
+    pub largest: Option<(String, Span)>,
     /// The passband tolerance, dB.
     pub tolerance_db: f64,
     /// attenuation ≤ tolerance.
@@ -1019,7 +1020,7 @@ pub fn analyse_rates(
                 .contributions(band_hz, last)
                 .into_iter()
                 .max_by(|x, y| x.db.total_cmp(&y.db))
-                .map(|c| c.what),
+                .map(|c| (c.what, c.span)),
             tolerance_db: tolerance,
             pass: droop <= tolerance + 1e-9,
         }

@@ -3,6 +3,7 @@
 //! verdicts `foldcheck inspect` prints); this module only lays them out.
 
 use super::snapshot::{Snapshot, SymbolKind, Target};
+use crate::analysis::Enabled;
 use crate::inspect::{self, Inspection, StageInfo, db_text, rate_text};
 use crate::model::quantity::{format_hz, sig6, to_f64};
 use crate::model::{ClockDef, Filter};
@@ -78,7 +79,7 @@ fn inspection(snap: &Snapshot, ri: usize, ci: usize) -> Option<Inspection> {
         ci,
         &snap.outcome.sources,
         &snap.outcome.findings,
-        &(None, ThresholdSettings::default()),
+        &(None, ThresholdSettings::default(), Enabled::ALL),
     ))
 }
 
@@ -194,12 +195,17 @@ fn channel(snap: &Snapshot, ri: usize, ci: usize, stage: Option<usize>) -> Strin
                 db_text(al.required_db)
             ));
         }
+        let droop = a.passband.as_ref().map_or_else(String::new, |p| {
+            format!(
+                "; droop at the band edge {} (tolerance {})",
+                db_text(p.attenuation_db),
+                db_text(p.tolerance_db)
+            )
+        });
         out.push_str(&format!(
-            "\nfinal rate {}, ratio {}; droop at the band edge {} (tolerance {})\n",
+            "\nfinal rate {}, ratio {}{droop}\n",
             format_hz(a.final_rate_hz),
             sig6(a.final_ratio),
-            db_text(a.passband.attenuation_db),
-            db_text(a.passband.tolerance_db)
         ));
     }
     out
@@ -347,8 +353,8 @@ fn filter(snap: &Snapshot, ri: usize, ci: Option<usize>, f: &Filter) -> String {
     }
     if let Some((_, db)) = a
         .passband
-        .contributions
         .iter()
+        .flat_map(|p| p.contributions.iter())
         .find(|(w, _)| w.ends_with(&d))
     {
         out.push_str(&format!(

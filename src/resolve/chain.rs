@@ -108,6 +108,8 @@ pub struct Chain<'a> {
 pub struct Contribution {
     /// What it is ("channel filter: 4th-order Butterworth at 20 kHz").
     pub what: String,
+    /// Where the filter is written.
+    pub span: Span,
     /// Attenuation in dB.
     pub db: f64,
 }
@@ -295,6 +297,7 @@ impl<'a> Chain<'a> {
             .into_iter()
             .map(|(flt, at, what)| Contribution {
                 what: format!("{what}: {}", flt.response.describe()),
+                span: flt.span,
                 db: filter_attenuation_db(&flt.response, f, at),
             })
             .collect()

@@ -1,6 +1,6 @@
 //! `alias-rejection`: attenuation where energy folds into the band, at every rate change.
 
-use super::rates::{help_for, rate_channels, rate_labels, with_fix};
+use super::rates::{rate_channels, rate_labels, with_fix_or_help};
 use super::{Rule, Stage};
 use crate::analysis::RigAnalysis;
 use crate::finding::{Finding, Label, Severity, format_db, round_to};
@@ -143,24 +143,18 @@ fn check(a: &RigAnalysis, out: &mut Vec<Finding>) {
             ),
             _ => None,
         };
-        let help = help_for(c, || {
-            Some(format!(
-                "attenuate {} by another {} before this rate change (a steeper or lower anti-alias filter), or sample faster",
-                format_hz(w.fold_from_hz),
-                format_db(required - w.attenuation_db)
-            ))
-        });
-        f = f
-            .with_help_opt(match (help, origin) {
-                (Some(h), Some(o)) => Some(format!("{h}; {o}")),
-                (h, _) => h,
-            })
+        let fallback = format!(
+            "attenuate {} by another {} before this rate change (a steeper or lower anti-alias filter), or sample faster",
+            format_hz(w.fold_from_hz),
+            format_db(required - w.attenuation_db)
+        );
+        f = with_fix_or_help(f, c, Some(fallback), origin)
             .with_f64("rate_hz", st.rate_hz())
             .with_f64("band_hz", band)
             .with_f64("fold_from_hz", w.fold_from_hz)
             .with_f64("attenuation_db", round_to(w.attenuation_db, 3))
             .with_f64("required_db", round_to(required, 3))
             .with_value("stage", w.stage);
-        out.push(with_fix(f, c));
+        out.push(f);
     }
 }

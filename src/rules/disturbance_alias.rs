@@ -1,6 +1,6 @@
 //! `disturbance-alias`: a known tone above half a rate that folds into the band.
 
-use super::rates::{help_for, rate_channels, rate_labels, with_fix};
+use super::rates::{rate_channels, rate_labels, with_fix_or_help};
 use super::{Rule, Stage};
 use crate::analysis::RigAnalysis;
 use crate::finding::{Finding, Label, Severity, format_db, round_to};
@@ -110,17 +110,17 @@ fn check(a: &RigAnalysis, out: &mut Vec<Finding>) {
             ));
         }
         f.secondary.extend(rate_labels(rig, ch, step.stage));
-        f = f
-            .with_help_opt(help_for(c, || Some(format!(
-                "attenuate the tone by another {} before this rate change (a steeper anti-alias filter), or choose a rate at which {} does not fold into the band",
-                format_db(required - at).replace(".00", ""),
-                format_hz(fd)
-            ))))
+        let fallback = format!(
+            "attenuate the tone by another {} before this rate change (a steeper anti-alias filter), or choose a rate at which {} does not fold into the band",
+            format_db(required - at).replace(".00", ""),
+            format_hz(fd)
+        );
+        f = with_fix_or_help(f, c, Some(fallback), None)
             .with_f64("disturbance_hz", fd)
             .with_f64("alias_hz", folded)
             .with_f64("attenuation_db", round_to(at, 3))
             .with_f64("required_db", round_to(required, 3))
             .with_value("stage", step.stage);
-        out.push(with_fix(f, c));
+        out.push(f);
     }
 }

@@ -244,8 +244,19 @@ fn check_droop(a: &RigAnalysis, out: &mut Vec<Finding>) {
         let (band, att, tol) = (r.band_hz, p.attenuation_db, p.tolerance_db);
         let name = &ch.def.name.value;
         let b = ch.band.as_ref().expect("rate channels have a band");
-        let (span, label) = match &ch.filters_span {
-            Some((span, _)) if !ch.filters.is_empty() => (
+        // The primary label sits on the filter that attenuates the band edge most (a
+        // decimation stage's filter is not the ADC chain).
+        let in_stage = p
+            .largest
+            .as_ref()
+            .filter(|(w, _)| w.starts_with("decimation"))
+            .map(|(_, s)| *s);
+        let (span, label) = match (&ch.filters_span, in_stage) {
+            (_, Some(s)) => (
+                s,
+                format!("attenuates {} by {}", format_hz(band), format_db(att)),
+            ),
+            (Some((span, _)), None) if !ch.filters.is_empty() => (
                 *span,
                 format!("attenuates {} by {}", format_hz(band), format_db(att)),
             ),
@@ -254,7 +265,7 @@ fn check_droop(a: &RigAnalysis, out: &mut Vec<Finding>) {
         let worst = p
             .largest
             .as_ref()
-            .map(|w| format!("; most of it comes from the {w}"))
+            .map(|(w, _)| format!("; most of it comes from the {w}"))
             .unwrap_or_default();
         let mut f = PASSBAND_DROOP
             .finding(span, label, format!(

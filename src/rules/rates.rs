@@ -194,23 +194,29 @@ pub fn rate_channels<'a>(
     })
 }
 
-/// Help for a rate rule at rate change `stage`: the channel's confirmed fix when the
-/// analysis found one; else `fallback` says what the rules alone require.
-pub fn help_for(c: &ChannelAnalysis, fallback: impl FnOnce() -> Option<String>) -> Option<String> {
+/// Give a rate finding its help: the channel's fix (confirmed by the analysis) with
+/// the help that names it, and `fallback` as the help to show if the fix is dropped by
+/// verification; just `fallback` when there is no fix. `suffix` is added to both.
+pub fn with_fix_or_help(
+    f: Finding,
+    c: &ChannelAnalysis,
+    fallback: Option<String>,
+    suffix: Option<&str>,
+) -> Finding {
+    let add = |h: String| match suffix {
+        Some(s) => format!("{h}; {s}"),
+        None => h,
+    };
     match &c.fix {
-        Some(fix) => Some(fix.help.clone()),
-        None => fallback(),
-    }
-}
-
-/// Attach the channel's fix (with its help) to a rate finding.
-pub fn with_fix(f: Finding, c: &ChannelAnalysis) -> Finding {
-    match &c.fix {
-        Some(fix) => f.with_fix(Fix {
-            description: fix.description.clone(),
-            edits: fix.edits.clone(),
-        }),
-        None => f,
+        Some(fix) if !fix.edits.is_empty() => f.with_fix_and_help(
+            Fix {
+                description: fix.description.clone(),
+                edits: fix.edits.clone(),
+            },
+            add(fix.help.clone()),
+            fallback.map(add),
+        ),
+        _ => f.with_help_opt(fallback.map(add)),
     }
 }
 
@@ -247,18 +253,13 @@ fn check_nyquist(a: &RigAnalysis, out: &mut Vec<Finding>) {
             .with_channel(&ch.def.name.value);
         f.secondary.push(band_label(ch, band));
         f.secondary.extend(rate_labels(rig, ch, st.stage));
-        f = f
-            .with_help_opt(help_for(c, || {
-                Some(format!(
-                    "sample above {} (twice the band)",
-                    format_hz(2.0 * band)
-                ))
-            }))
+        let fallback = format!("sample above {} (twice the band)", format_hz(2.0 * band));
+        f = with_fix_or_help(f, c, Some(fallback), None)
             .with_f64("rate_hz", st.rate_hz())
             .with_f64("band_hz", band)
             .with_f64("ratio", round_to(st.ratio, 4))
             .with_value("stage", st.stage);
-        out.push(with_fix(f, c));
+        out.push(f);
     }
 }
 
@@ -294,15 +295,13 @@ fn check_margin(a: &RigAnalysis, out: &mut Vec<Finding>) {
                 .push(Label::new(*span, format!("margin {}×", sig6(margin))));
         }
         f.secondary.extend(rate_labels(rig, ch, st.stage));
-        f = f
-            .with_help_opt(help_for(c, || {
-                Some(format!("sample at {} or more", format_hz(margin * band)))
-            }))
+        let fallback = format!("sample at {} or more", format_hz(margin * band));
+        f = with_fix_or_help(f, c, Some(fallback), None)
             .with_f64("rate_hz", st.rate_hz())
             .with_f64("band_hz", band)
             .with_f64("ratio", round_to(st.ratio, 4))
             .with_f64("margin", margin)
             .with_value("stage", st.stage);
-        out.push(with_fix(f, c));
+        out.push(f);
     }
 }
