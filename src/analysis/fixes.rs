@@ -371,6 +371,7 @@ fn find_plan(
                     passband_edge: f64::from(pb) / 100.0,
                     stopband_edge: f64::from(sb) / 100.0,
                     attenuation: f64::from(db),
+                    delay: None,
                 };
             }
             passes(rig, index, &t, fs0, limits, before)

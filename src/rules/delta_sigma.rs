@@ -1,9 +1,9 @@
 //! `modulator-unknown`: a converter's own digital filter without its modulator.
 
 use super::{Rule, Stage};
+use crate::analysis::RigAnalysis;
 use crate::finding::{Finding, Severity};
 use crate::model::Response;
-use crate::resolve::Rig;
 use crate::source::Span;
 
 /// `modulator-unknown`.
@@ -61,7 +61,8 @@ channels:
     check: Some(check_modulator_unknown),
 };
 
-fn check_modulator_unknown(rig: &Rig, out: &mut Vec<Finding>) {
+fn check_modulator_unknown(a: &RigAnalysis, out: &mut Vec<Finding>) {
+    let rig = a.rig;
     // One finding per digital filter, however many channels share it (a module's
     // `filters`): the first channel names it, the count says how many more.
     let mut seen: Vec<(Span, usize, usize)> = Vec::new();

@@ -505,7 +505,8 @@ fn tables<'c>(chain: &Chain<'c>) -> Vec<&'c Filter> {
         .collect()
 }
 
-fn check_incomplete(rig: &Rig, out: &mut Vec<Finding>) {
+fn check_incomplete(a: &RigAnalysis, out: &mut Vec<Finding>) {
+    let rig = a.rig;
     for (gi, g) in rig.groups.iter().enumerate() {
         let Some(members) = comparable_members(rig, gi) else {
             continue;
