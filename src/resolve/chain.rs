@@ -397,7 +397,189 @@ impl<'a> Chain<'a> {
     pub fn total_phase_deg(&self, f: f64) -> f64 {
         self.phase_deg(f) - 360.0 * f * self.digital_delay_s()
     }
+    /// The worst image at rate change `upto` for a band of `band` Hz (docs/model.md
+    /// §3): the frequency of the least attenuated point of every image band
+    /// `[n·fs − B, n·fs + B]` (n ≥ 1) of the original axis, and the attenuation there.
+    ///
+    /// Each band is searched at its edges, the table points inside it, the passband
+    /// zeros of Chebyshev filters inside it and the break points of the periodic digital
+    /// filters (multiples of their rate, ± their edges). Bands an earlier rate change
+    /// already folded (n a multiple of this stage's factor) and the modulator images
+    /// (n·fs a multiple of the modulator rate, their own check) are left out. Bound:
+    /// only the first band when every response keeps rising beyond it (Butterworth and
+    /// Bessel, Chebyshev with its cutoff at or below fs − B, no table, no periodic
+    /// digital filter); else every band starting below the last frequency where a
+    /// response stops rising (a table's last point, a Chebyshev cutoff), plus the ADC
+    /// rate, or the modulator rate when the converter has a filter, capped at
+    /// [`MAX_IMAGE_BANDS`] bands. Ties go to the lowest frequency.
+    pub fn worst_image(&self, upto: usize, band: f64) -> (f64, f64) {
+        let rc = &self.changes[upto];
+        let fs = rc.fs_hz();
+        let filters = self.filters_upto(upto, None);
+        let fs0 = to_f64(&self.adc_rate());
+        let fmod = self.modulator_rate_hz();
+        // Where responses stop rising, and the break points of the periodic filters.
+        let mut stops_rising: f64 = 0.0;
+        let mut periodic: Vec<(f64, Vec<f64>)> = Vec::new();
+        let mut tables: Vec<f64> = Vec::new();
+        let mut cheb_zeros: Vec<f64> = Vec::new();
+        for (flt, at, _) in &filters {
+            match &flt.response {
+                Response::Table { points } => {
+                    tables.extend(points.iter().map(|p| p.0));
+                    stops_rising = stops_rising.max(points.last().map_or(0.0, |p| p.0));
+                }
+                Response::Chebyshev { order, cutoff, .. } => {
+                    let n = f64::from(*order);
+                    cheb_zeros.extend((1..=*order).map(|k| {
+                        cutoff
+                            * (std::f64::consts::PI * (2.0 * f64::from(k) - 1.0) / (2.0 * n)).cos()
+                    }));
+                    if *cutoff > fs - band {
+                        stops_rising = stops_rising.max(*cutoff);
+                    }
+                }
+                Response::Digital {
+                    passband_edge,
+                    stopband_edge,
+                    ..
+                } => {
+                    if let Some((fin, _)) = at.stage {
+                        let edges = vec![
+                            passband_edge * at.output_rate,
+                            stopband_edge * at.output_rate,
+                        ];
+                        periodic.push((fin, edges));
+                    }
+                }
+                Response::Sinc { .. } => {
+                    if let Some((fin, _)) = at.stage {
+                        periodic.push((fin, Vec::new()));
+                    }
+                }
+                _ => {}
+            }
+        }
+        let simple = tables.is_empty() && stops_rising == 0.0 && periodic.is_empty();
+        let converter_filter = self.modulator().is_some_and(|m| m.filter.is_some());
+        let period = match fmod {
+            Some(m) if converter_filter => m,
+            _ => fs0,
+        };
+        let bound = stops_rising + period;
+        let last_n = if simple {
+            1
+        } else {
+            (((bound + band) / fs).ceil() as u64).clamp(1, MAX_IMAGE_BANDS)
+        };
+        let skip_factor = if upto == 0 { 0 } else { u64::from(rc.factor) };
+        let mod_ratio = match fmod {
+            Some(m) if upto == 0 => (m / fs).round() as u64,
+            _ => 0,
+        };
+        let att = |f: f64| self.attenuation_db(f, upto);
+        let mut best: Option<(f64, f64)> = None;
+        let consider = |f: f64, best: &mut Option<(f64, f64)>| {
+            let a = att(f);
+            match best {
+                Some((bf, ba)) if a > *ba || (a == *ba && f >= *bf) => {}
+                _ => *best = Some((f, a)),
+            }
+        };
+        for n in 1..=last_n {
+            if (skip_factor > 1 && n % skip_factor == 0) || (mod_ratio > 1 && n % mod_ratio == 0) {
+                continue;
+            }
+            let centre = n as f64 * fs;
+            let (lo, hi) = (centre - band, centre + band);
+            consider(lo, &mut best);
+            consider(hi, &mut best);
+            for &p in tables.iter().chain(&cheb_zeros) {
+                if p > lo && p < hi {
+                    consider(p, &mut best);
+                }
+            }
+            for (fin, edges) in &periodic {
+                let first = (lo / fin).floor() as i64;
+                let last = (hi / fin).ceil() as i64;
+                for m in first..=last {
+                    let base = m as f64 * fin;
+                    for p in
+                        std::iter::once(base).chain(edges.iter().flat_map(|e| [base - e, base + e]))
+                    {
+                        if p > lo && p < hi {
+                            consider(p, &mut best);
+                        }
+                    }
+                }
+            }
+        }
+        best.unwrap_or((fs - band, att(fs - band)))
+    }
+
+    /// The worst modulator image for a band of `band` Hz: the least attenuated point of
+    /// `[k·f_mod − B, k·f_mod + B]` (k ≥ 1) against the analog chain alone (sensor
+    /// response and analog filters: the converter's own filter repeats there). `None`
+    /// without a described modulator. Bound: the first image suffices unless a response
+    /// stops rising (a table's last point, a Chebyshev cutoff) above it; then every
+    /// image starting below that point plus one more. Ties go to the lowest frequency.
+    pub fn worst_modulator_image(&self, band: f64) -> Option<(f64, f64)> {
+        let fmod = self.modulator_rate_hz()?;
+        let analog: Vec<(&Filter, Placement)> = self
+            .filters_upto(0, None)
+            .into_iter()
+            .filter(|(f, _, _)| {
+                f.response.is_analog() || matches!(f.response, Response::Table { .. })
+            })
+            .map(|(f, at, _)| (f, at))
+            .collect();
+        let att = |f: f64| -> f64 {
+            analog
+                .iter()
+                .map(|(flt, at)| filter_attenuation_db(&flt.response, f, *at))
+                .sum()
+        };
+        let mut points: Vec<f64> = Vec::new();
+        let mut stops_rising: f64 = 0.0;
+        for (flt, _) in &analog {
+            match &flt.response {
+                Response::Table { points: p } => {
+                    points.extend(p.iter().map(|p| p.0));
+                    stops_rising = stops_rising.max(p.last().map_or(0.0, |p| p.0));
+                }
+                Response::Chebyshev { order, cutoff, .. } => {
+                    let n = f64::from(*order);
+                    points.extend((1..=*order).map(|k| {
+                        cutoff
+                            * (std::f64::consts::PI * (2.0 * f64::from(k) - 1.0) / (2.0 * n)).cos()
+                    }));
+                    stops_rising = stops_rising.max(*cutoff);
+                }
+                _ => {}
+            }
+        }
+        let last_k = (((stops_rising + band) / fmod).ceil() as u64 + 1).clamp(1, MAX_IMAGE_BANDS);
+        let mut best: Option<(f64, f64)> = None;
+        for k in 1..=last_k {
+            let centre = k as f64 * fmod;
+            let (lo, hi) = (centre - band, centre + band);
+            for f in [lo, hi]
+                .into_iter()
+                .chain(points.iter().copied().filter(|&p| p > lo && p < hi))
+            {
+                let a = att(f);
+                match best {
+                    Some((bf, ba)) if a > ba || (a == ba && f >= bf) => {}
+                    _ => best = Some((f, a)),
+                }
+            }
+        }
+        best
+    }
 }
+
+/// The most image bands [`Chain::worst_image`] searches at one rate change.
+pub const MAX_IMAGE_BANDS: u64 = 100_000;
 
 /// The delay of one digital filter of a chain.
 #[derive(Clone, Debug, PartialEq)]
