@@ -613,3 +613,126 @@ channels:
     assert!(text.contains("clock-cycle"), "{text}");
     assert!(text.contains("a → b → a"), "{text}");
 }
+
+/// A delta-sigma card at 102.4 kHz (modulator 64 × 102.4 kHz = 6.5536 MHz) decimated by
+/// 2 and then by 4, with a 2 kHz band: three rate changes, each with its own images.
+/// Made up for the test.
+const STAGED: &str = "\
+format: 1
+rig: bench-staged
+clocks:
+  - { name: osc, frequency: 102.4 kHz }
+modules:
+  - name: ds-card
+    modulator:
+      oversampling-ratio: 64
+      filter: { response: digital, passband-edge: 0.45, stopband-edge: 0.55, attenuation: 110 dB }
+channels:
+  - name: strain-7
+    module: ds-card
+    clock: osc
+    band: 2 kHz
+    filters: [{ response: butterworth, order: 4, cutoff: 20 kHz }]
+    decimate:
+      - { factor: 2, filter: { response: sinc, order: 4 } }
+      - { factor: 4, filter: { response: digital, passband-edge: 0.2, stopband-edge: 0.5, attenuation: 100 dB } }
+";
+
+#[test]
+fn the_plot_draws_every_rate_changes_images_and_half_rate_in_its_own_colour() {
+    use foldcheck::inspect::plot::{colour_hex, stage_colour};
+    let dir = scratch("staged-svg");
+    std::fs::write(dir.join("staged.rig.yaml"), STAGED).unwrap();
+    let o = foldcheck(
+        &dir,
+        &[
+            "inspect",
+            "staged.rig.yaml",
+            "strain-7",
+            "--plot",
+            "out.svg",
+        ],
+    );
+    assert_eq!(o.status.code(), Some(0), "stderr: {}", stderr(&o));
+    let svg = std::fs::read_to_string(dir.join("out.svg")).unwrap();
+    let doc = roxmltree::Document::parse(&svg).expect("the plot is well-formed XML");
+    let text_x = |s: &str| -> f64 {
+        let n = doc
+            .descendants()
+            .find(|n| n.has_tag_name("text") && n.text().map(str::trim) == Some(s))
+            .unwrap_or_else(|| panic!("no text {s:?}"));
+        attr(&n, "x")
+    };
+    // The log axis from two decade labels.
+    let (x10k, x100k) = (text_x("10 kHz"), text_x("100 kHz"));
+    let x = |hz: f64| x10k + (hz / 1e4).log10() * (x100k - x10k);
+    let rects: Vec<roxmltree::Node> = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("rect"))
+        .collect();
+    let lines: Vec<roxmltree::Node> = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("polyline"))
+        .collect();
+    // Rate changes: the ADC at 102.4 kHz, stage 1 at 51.2 kHz, stage 2 at 12.8 kHz.
+    for (stage, fs) in [(0usize, 102_400.0), (1, 51_200.0), (2, 12_800.0)] {
+        let colour = colour_hex(stage_colour(Some(stage)));
+        // Its first image band [fs − B, fs + B], in its colour.
+        let (lo, hi) = (fs - 2e3, fs + 2e3);
+        let bands = rects
+            .iter()
+            .filter(|r| r.attribute("fill") == Some(colour.as_str()))
+            .filter(|r| {
+                close(attr(r, "x"), x(lo), 2.0)
+                    && close(attr(r, "x") + attr(r, "width"), x(hi), 2.0)
+            })
+            .count();
+        assert_eq!(
+            bands, 1,
+            "stage {stage}: one image band at {lo}..{hi} Hz in {colour}"
+        );
+        // Its fs/2 line: a vertical polyline in its colour.
+        let half = lines
+            .iter()
+            .filter(|l| l.attribute("stroke") == Some(colour.as_str()))
+            .filter(|l| {
+                let p = points(l);
+                p.len() == 2 && p.iter().all(|q| close(q.0, x(fs / 2.0), 1.5)) && p[0].1 != p[1].1
+            })
+            .count();
+        assert!(
+            half >= 1,
+            "stage {stage}: an fs/2 line at {} Hz in {colour}",
+            fs / 2.0
+        );
+        // Stage 1's images leave out the multiples of 2 (the ADC's own), stage 2's the
+        // multiples of 4: no stage-1 band around 2 × 51.2 kHz.
+        if stage == 1 {
+            assert!(
+                !rects
+                    .iter()
+                    .any(|r| r.attribute("fill") == Some(colour.as_str())
+                        && close(attr(r, "x"), x(102_400.0 - 2e3), 2.0)),
+                "stage 1 redraws the ADC's image"
+            );
+        }
+    }
+    // The modulator images, in their own colour, from 6.5536 MHz − 2 kHz.
+    let grey = colour_hex(stage_colour(None));
+    assert!(
+        rects
+            .iter()
+            .any(|r| r.attribute("fill") == Some(grey.as_str())
+                && close(attr(r, "x"), x(6_553_600.0 - 2e3), 2.0)),
+        "a modulator image band"
+    );
+    // One legend entry per rate change and one for the modulator images.
+    for legend in [
+        "ADC at 102.4 kHz: images k·fs ± B fold into the band; solid line fs/2",
+        "stage 1 (÷2) at 51.2 kHz: images k·fs ± B fold into the band; solid line fs/2",
+        "stage 2 (÷4) at 12.8 kHz: images k·fs ± B fold into the band; solid line fs/2",
+        "modulator images k·f_mod ± B: only the analog chain protects there",
+    ] {
+        text_x(legend);
+    }
+}

@@ -707,6 +707,10 @@ pub fn plot_data(rig: &Rig, ci: usize, ins: &Inspection) -> Option<plot::PlotDat
             f_max = f * 1.3;
         }
     }
+    // A converter's first modulator image is worth the wider axis.
+    if let Some(fmod) = chain.modulator_rate_hz().filter(|&m| m <= cap) {
+        f_max = f_max.max((fmod + band) * 1.3);
+    }
 
     // Curves: the chain up to the ADC, and the whole chain when a stage has a filter.
     let last = chain.changes.len() - 1;
@@ -857,23 +861,65 @@ pub fn plot_data(rig: &Rig, ci: usize, ins: &Inspection) -> Option<plot::PlotDat
         .collect();
     markers.retain(|m| m.frequency_hz >= f_min && m.frequency_hz <= f_max);
 
-    // Images of the band around multiples of the ADC rate.
+    // Images of the band around multiples of every rate change's rate; a stage leaves
+    // out the images an earlier rate change already folded (multiples of its factor).
     let mut images = Vec::new();
-    let mut k = 1u32;
-    while f64::from(k) * fs0 - band < f_max && k <= 200 {
-        let c = f64::from(k) * fs0;
-        images.push(plot::Image {
-            low_hz: (c - band).max(f_min),
-            high_hz: (c + band).min(f_max),
-            // The first few carry a label; the legend explains the rest.
-            label: match k {
-                1 => "fs ± B".to_string(),
-                2..=3 => format!("{k}fs ± B"),
-                _ => String::new(),
-            },
+    let mut half_rates = Vec::new();
+    for rc in &chain.changes {
+        let fs = rc.fs_hz();
+        let skip = if rc.stage == 0 { 0 } else { rc.factor };
+        let name = if rc.stage == 0 {
+            "ADC".to_string()
+        } else {
+            format!("stage {} (÷{})", rc.stage, rc.factor)
+        };
+        half_rates.push(plot::HalfRate {
+            stage: rc.stage,
+            frequency_hz: fs / 2.0,
+            label: format!("{name} at {}", format_hz(fs)),
         });
-        k += 1;
+        let mut k = 1u32;
+        let mut drawn = 0;
+        while f64::from(k) * fs - band < f_max && drawn < 200 {
+            if skip > 1 && k % skip == 0 {
+                k += 1;
+                continue;
+            }
+            let c = f64::from(k) * fs;
+            let label = match (rc.stage, drawn) {
+                (0, 0) => "fs ± B".to_string(),
+                (0, 1..=2) => format!("{k}fs ± B"),
+                (st, 0) => format!("fs{st} ± B"),
+                _ => String::new(),
+            };
+            images.push(plot::Image {
+                low_hz: (c - band).max(f_min),
+                high_hz: (c + band).min(f_max),
+                label,
+                stage: Some(rc.stage),
+            });
+            drawn += 1;
+            k += 1;
+        }
     }
+    if let Some(fmod) = chain.modulator_rate_hz() {
+        let mut k = 1u32;
+        while f64::from(k) * fmod - band < f_max && k <= 50 {
+            let c = f64::from(k) * fmod;
+            images.push(plot::Image {
+                low_hz: (c - band).max(f_min),
+                high_hz: (c + band).min(f_max),
+                label: if k == 1 {
+                    "f_mod ± B".to_string()
+                } else {
+                    String::new()
+                },
+                stage: None,
+            });
+            k += 1;
+        }
+    }
+    let phase = group_phase_panel(rig, ci);
 
     let rig_name = ins.rig.as_deref().unwrap_or("rig");
     let mut subtitle = format!("ADC {}", format_hz(fs0));
@@ -906,6 +952,64 @@ pub fn plot_data(rig: &Rig, ci: usize, ins: &Inspection) -> Option<plot::PlotDat
         curves,
         markers,
         images,
+        half_rates,
+        phase,
         notes,
+    })
+}
+
+/// The phase panel of the first group the channel belongs to: every member's phase
+/// (analog phase less the digital delays) over the group's common band.
+fn group_phase_panel(rig: &Rig, ci: usize) -> Option<plot::PhasePanel> {
+    let gi = rig.group_members.iter().position(|m| m.contains(&ci))?;
+    let mut members: Vec<usize> = rig.group_members[gi]
+        .iter()
+        .copied()
+        .filter(|&c| rig.channels[c].ok)
+        .collect();
+    members.sort_by_key(|&c| c != ci);
+    members.dedup();
+    let chains: Vec<(usize, Chain)> = members
+        .iter()
+        .filter_map(|&c| Some((c, Chain::new(rig, &rig.channels[c])?)))
+        .collect();
+    let common = members
+        .iter()
+        .filter_map(|&c| {
+            rig.channels[c]
+                .band
+                .as_ref()
+                .map(|b| quantity::to_f64(&b.hz))
+        })
+        .fold(f64::INFINITY, f64::min);
+    if chains.len() < 2 || !common.is_finite() {
+        return None;
+    }
+    let curves = chains
+        .iter()
+        .map(|(c, chain)| {
+            let pts = (0..=200)
+                .map(|i| {
+                    let f = common * f64::from(i) / 200.0;
+                    (f, chain.total_phase_deg(f))
+                })
+                .collect();
+            let label = format!(
+                "{}: latency {} (digital {})",
+                rig.channels[*c].def.name.value,
+                quantity::format_seconds(chain.latency_s()),
+                quantity::format_seconds(chain.digital_delay_s())
+            );
+            (label, pts)
+        })
+        .collect();
+    Some(plot::PhasePanel {
+        title: format!(
+            "phase in group `{}` over the common {} band (analog phase less 360°·f·digital delay)",
+            rig.groups[gi].name.value,
+            format_hz(common)
+        ),
+        band_hz: common,
+        curves,
     })
 }

@@ -65,6 +65,32 @@ pub struct Image {
     pub high_hz: f64,
     /// "fs ± B", "2fs ± B" …, or empty for an image drawn without a label.
     pub label: String,
+    /// The rate change whose images these are (0 the ADC, k stage k), or `None` for an
+    /// image of a delta-sigma modulator's rate.
+    pub stage: Option<usize>,
+}
+
+/// Half the output rate of a rate change: everything above it folds.
+#[derive(Clone, Debug)]
+pub struct HalfRate {
+    /// The rate change (0 the ADC, k stage k).
+    pub stage: usize,
+    /// fs/2, Hz.
+    pub frequency_hz: f64,
+    /// Legend text for the stage ("ADC at 51.2 kHz", "stage 1 at 6.4 kHz").
+    pub label: String,
+}
+
+/// The group panel: each member's phase over the common band (analog phase less the
+/// digital delays), drawn below the spectrum when the channel is in a group.
+#[derive(Clone, Debug)]
+pub struct PhasePanel {
+    /// Panel title ("phase in group `modes` over the common 400 Hz band").
+    pub title: String,
+    /// The common band, Hz (the panel's right edge).
+    pub band_hz: f64,
+    /// (legend, points (Hz, deg)); the first is the inspected channel.
+    pub curves: Vec<(String, Vec<(f64, f64)>)>,
 }
 
 /// Everything the plot shows.
@@ -90,8 +116,13 @@ pub struct PlotData {
     pub curves: Vec<Curve>,
     /// Fold, resonance and disturbance markers inside the range.
     pub markers: Vec<Marker>,
-    /// Images of the band around multiples of the ADC rate.
+    /// Images of the band around multiples of every rate change's rate (and of the
+    /// modulator rate).
     pub images: Vec<Image>,
+    /// fs/2 of every rate change.
+    pub half_rates: Vec<HalfRate>,
+    /// The group phase panel, if the channel is in a group.
+    pub phase: Option<PhasePanel>,
     /// Things that could not be drawn (a marker outside the range).
     pub notes: Vec<String>,
 }
@@ -333,6 +364,29 @@ const CURVE: RGBColor = RGBColor(20, 80, 200);
 const FULL_CURVE: RGBColor = RGBColor(30, 30, 30);
 const BAND_FILL: RGBColor = RGBColor(200, 235, 200);
 const IMAGE_FILL: RGBColor = RGBColor(255, 222, 190);
+/// One colour per rate change (the ADC first), cycled for very long chains.
+const STAGE_COLOURS: [RGBColor; 5] = [
+    RGBColor(230, 140, 60),
+    RGBColor(70, 120, 210),
+    RGBColor(160, 80, 190),
+    RGBColor(20, 150, 150),
+    RGBColor(200, 70, 110),
+];
+/// Modulator images.
+const MODULATOR_COLOUR: RGBColor = RGBColor(110, 110, 110);
+
+/// The colour of a rate change's images and fs/2 line (`None`: modulator images).
+pub fn stage_colour(stage: Option<usize>) -> RGBColor {
+    match stage {
+        Some(k) => STAGE_COLOURS[k % STAGE_COLOURS.len()],
+        None => MODULATOR_COLOUR,
+    }
+}
+
+/// The hex spelling of a colour as the SVG backend writes it (`#E68C3C`), for tests.
+pub fn colour_hex(c: RGBColor) -> String {
+    format!("#{:02X}{:02X}{:02X}", c.0, c.1, c.2)
+}
 const IMAGE_TEXT: RGBColor = RGBColor(190, 100, 30);
 const REQUIRED: RGBColor = RGBColor(200, 30, 30);
 
@@ -403,7 +457,11 @@ fn draw(d: &PlotData, svg: &mut String) -> DrawResult {
             f: centre,
             x: px(centre),
             text: im.label.clone(),
-            colour: IMAGE_TEXT,
+            colour: if d.half_rates.len() > 1 || im.stage.is_none() {
+                stage_colour(im.stage)
+            } else {
+                IMAGE_TEXT
+            },
         }
     }));
     let sizes: Vec<(i32, i32)> = tags
@@ -428,10 +486,25 @@ fn draw(d: &PlotData, svg: &mut String) -> DrawResult {
         ));
     }
     legend.push((Swatch::Fill(BAND_FILL), d.band_label.clone()));
-    if !d.images.is_empty() {
+    for h in &d.half_rates {
+        legend.push((
+            Swatch::Fill(stage_colour(Some(h.stage))),
+            format!(
+                "{}: images k·fs ± B fold into the band; solid line fs/2",
+                h.label
+            ),
+        ));
+    }
+    if d.half_rates.is_empty() && !d.images.is_empty() {
         legend.push((
             Swatch::Fill(IMAGE_FILL),
             "images k·fs ± B of the band: energy there folds into it at the ADC".to_string(),
+        ));
+    }
+    if d.images.iter().any(|im| im.stage.is_none()) {
+        legend.push((
+            Swatch::Fill(MODULATOR_COLOUR),
+            "modulator images k·f_mod ± B: only the analog chain protects there".to_string(),
         ));
     }
     legend.push((Swatch::Dashed(REQUIRED), d.required_label.clone()));
@@ -457,7 +530,12 @@ fn draw(d: &PlotData, svg: &mut String) -> DrawResult {
     let legend_rows = legend.len().div_ceil(2) as i32;
     let legend_row = 22;
     let legend_top = plot_top + PLOT_HEIGHT as i32 + X_LABEL_AREA as i32 + 8;
-    let height = legend_top + legend_rows * legend_row + 10 + d.notes.len() as i32 * 20 + 6;
+    let notes_end = legend_top + legend_rows * legend_row + 10 + d.notes.len() as i32 * 20 + 6;
+    let phase_top = notes_end + 10;
+    let height = match &d.phase {
+        Some(p) => phase_top + PHASE_HEIGHT as i32 + 30 + p.curves.len() as i32 * 22 + 10,
+        None => notes_end,
+    };
 
     let root = SVGBackend::with_string(svg, (WIDTH, height as u32)).into_drawing_area();
     root.fill(&WHITE)?;
@@ -502,12 +580,30 @@ fn draw(d: &PlotData, svg: &mut String) -> DrawResult {
         .bold_line_style(RGBColor(200, 200, 200))
         .draw()?;
 
-    // Shaded areas: images first, the band on top.
+    // Shaded areas: images first (each rate change in its own colour when there are
+    // several), the band on top.
+    let several = d.half_rates.len() > 1;
     for im in &d.images {
+        let fill = match im.stage {
+            Some(_) if !several => IMAGE_FILL.mix(0.55),
+            other => stage_colour(other).mix(0.28),
+        };
         chart.draw_series(std::iter::once(Rectangle::new(
-            [(im.low_hz, -y_max), (im.high_hz, y_top)],
-            IMAGE_FILL.mix(0.55).filled(),
+            [
+                (im.low_hz.max(d.f_min), -y_max),
+                (im.high_hz.min(d.f_max), y_top),
+            ],
+            fill.filled(),
         )))?;
+    }
+    // fs/2 of every rate change: a solid line in the stage's colour.
+    for h in &d.half_rates {
+        if h.frequency_hz > d.f_min && h.frequency_hz < d.f_max {
+            chart.draw_series(LineSeries::new(
+                vec![(h.frequency_hz, y_top), (h.frequency_hz, -y_max)],
+                stage_colour(Some(h.stage)).stroke_width(2),
+            ))?;
+        }
     }
     chart.draw_series(std::iter::once(Rectangle::new(
         [(d.f_min, -y_max), (d.band_hz.min(d.f_max), y_top)],
@@ -679,7 +775,78 @@ fn draw(d: &PlotData, svg: &mut String) -> DrawResult {
                 .pos(Pos::new(HPos::Left, VPos::Top)),
         ))?;
     }
+    if let Some(p) = &d.phase {
+        draw_phase(&root, p, phase_top)?;
+    }
     root.present()?;
+    Ok(())
+}
+
+const PHASE_HEIGHT: u32 = 260;
+const PHASE_COLOURS: [RGBColor; 4] = [
+    RGBColor(20, 80, 200),
+    RGBColor(200, 90, 20),
+    RGBColor(30, 140, 60),
+    RGBColor(150, 60, 170),
+];
+
+/// The group panel: phase (deg) against linear frequency over the common band.
+fn draw_phase(root: &DrawingArea<SVGBackend, Shift>, p: &PhasePanel, top: i32) -> DrawResult {
+    let (lo, hi) = p
+        .curves
+        .iter()
+        .flat_map(|c| c.1.iter().map(|q| q.1))
+        .fold((0.0_f64, 0.0_f64), |(lo, hi), v| (lo.min(v), hi.max(v)));
+    let pad = ((hi - lo) * 0.08).max(1.0);
+    root.draw(&Text::new(
+        p.title.clone(),
+        (WIDTH as i32 / 2, top),
+        (FONT, 18.0)
+            .into_font()
+            .color(&BLACK)
+            .pos(Pos::new(HPos::Center, VPos::Top)),
+    ))?;
+    let area = root
+        .clone()
+        .shrink((0, (top + 26) as u32), (WIDTH, PHASE_HEIGHT));
+    let mut chart = ChartBuilder::on(&area)
+        .margin_left(MARGIN_LEFT)
+        .margin_right(MARGIN_RIGHT)
+        .x_label_area_size(X_LABEL_AREA)
+        .y_label_area_size(Y_LABEL_AREA)
+        .build_cartesian_2d(0.0..p.band_hz, (lo - pad)..(hi + pad))?;
+    chart
+        .configure_mesh()
+        .x_labels(6)
+        .y_labels(6)
+        .x_label_formatter(&|f| format_hz(*f))
+        .y_label_formatter(&|y| crate::model::quantity::sig6((y * 10.0).round() / 10.0))
+        .x_desc("frequency")
+        .y_desc("phase (deg)")
+        .label_style((FONT, 16.0))
+        .axis_desc_style((FONT, 17.0))
+        .light_line_style(RGBColor(235, 235, 235))
+        .bold_line_style(RGBColor(200, 200, 200))
+        .draw()?;
+    for (i, (_, pts)) in p.curves.iter().enumerate() {
+        let c = PHASE_COLOURS[i % PHASE_COLOURS.len()];
+        chart.draw_series(LineSeries::new(
+            pts.clone(),
+            c.stroke_width(if i == 0 { 3 } else { 2 }),
+        ))?;
+    }
+    let legend: Vec<(Swatch, String)> = p
+        .curves
+        .iter()
+        .enumerate()
+        .map(|(i, (l, _))| {
+            (
+                Swatch::Line(PHASE_COLOURS[i % PHASE_COLOURS.len()]),
+                l.clone(),
+            )
+        })
+        .collect();
+    draw_legend(root, &legend, top + 26 + PHASE_HEIGHT as i32 + 4)?;
     Ok(())
 }
 
