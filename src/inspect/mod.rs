@@ -881,7 +881,7 @@ pub fn plot_data(rig: &Rig, ci: usize, ins: &Inspection) -> Option<plot::PlotDat
         let mut k = 1u32;
         let mut drawn = 0;
         while f64::from(k) * fs - band < f_max && drawn < 200 {
-            if skip > 1 && k % skip == 0 {
+            if skip > 1 && k.is_multiple_of(skip) {
                 k += 1;
                 continue;
             }

@@ -487,7 +487,9 @@ impl<'a> Chain<'a> {
             }
         };
         for n in 1..=last_n {
-            if (skip_factor > 1 && n % skip_factor == 0) || (mod_ratio > 1 && n % mod_ratio == 0) {
+            if (skip_factor > 1 && n.is_multiple_of(skip_factor))
+                || (mod_ratio > 1 && n.is_multiple_of(mod_ratio))
+            {
                 continue;
             }
             let centre = n as f64 * fs;
