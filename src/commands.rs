@@ -34,7 +34,7 @@ pub fn run(command: Command) -> Outcome {
                 progress: std::io::stderr().is_terminal(),
                 ..Options::default()
             };
-            let out = campaign::run(&paths, &opts).map_err(|e| fatal(&e))?;
+            let out = campaign::run(&paths, &opts).map_err(|e| fatal(&e, color_for(color)))?;
             if out.files == 0 {
                 // Not an error (an empty campaign is clean), but worth saying: a wrong
                 // directory would otherwise look like a clean one.
@@ -98,7 +98,8 @@ pub fn run(command: Command) -> Outcome {
                 rules,
                 include_catalogs,
             };
-            let plan = fix::plan(&paths, &opts, &choice).map_err(|e| fatal(&e))?;
+            let plan =
+                fix::plan(&paths, &opts, &choice).map_err(|e| fatal(&e, human::Color::Never))?;
             let (written, refused) = if dry_run {
                 (Vec::new(), Vec::new())
             } else {
@@ -122,7 +123,8 @@ pub fn run(command: Command) -> Outcome {
                 opts.clone()
             };
             let start = Instant::now();
-            let out = campaign::run(&paths, &after_opts).map_err(|e| fatal(&e))?;
+            let out =
+                campaign::run(&paths, &after_opts).map_err(|e| fatal(&e, human::Color::Never))?;
             let code = u8::from(Counts::of(&out.findings).reaches(severity(fail_on)));
             let text = match format {
                 crate::cli::FixFormat::Json => {
@@ -372,23 +374,46 @@ fn color_for(c: ColorChoice) -> human::Color {
     }
 }
 
-/// A fatal error for stderr; a settings error shows its span.
-fn fatal(e: &Fatal) -> String {
+/// A fatal error for stderr. A settings error with a place is shown like a finding
+/// (the same excerpt, label and help layout), under the rule-like code `settings`.
+fn fatal(e: &Fatal, color: human::Color) -> String {
     match e {
-        Fatal::Settings(s) => {
-            let mut out = format!("foldcheck: {e}\n");
-            if let Some(span) = &s.span {
-                let idx = foldcheck::source::LineIndex::new(&s.text);
-                let (line, col) = idx.line_col(&s.text, span.start);
-                let text_line = s.text.lines().nth(line - 1).unwrap_or("");
-                out.push_str(&format!(
-                    "  --> {}:{line}:{col}\n   |\n   | {text_line}\n   | {}^\n",
-                    s.path.display(),
-                    " ".repeat(col - 1)
-                ));
-            }
-            out.trim_end().to_string()
-        }
+        Fatal::Settings(s) => match settings_finding(s) {
+            Some((sources, f)) => format!(
+                "foldcheck: invalid settings file\n{}",
+                human::render_finding(&sources, &f, color).trim_end()
+            ),
+            None => format!("foldcheck: {e}"),
+        },
         other => format!("foldcheck: {other}"),
     }
+}
+
+/// A settings error as a finding in its own one-file [`Sources`], when it has a place.
+fn settings_finding(
+    s: &foldcheck::settings::SettingsError,
+) -> Option<(foldcheck::source::Sources, foldcheck::finding::Finding)> {
+    use foldcheck::finding::{Finding, Label};
+    let span = s.span.as_ref()?;
+    let mut sources = foldcheck::source::Sources::new();
+    let cwd = campaign::absolute(std::path::Path::new("."));
+    let shown = if s.path.is_absolute() {
+        campaign::relative_path(&cwd, &s.path)
+    } else {
+        s.path.to_string_lossy().replace('\\', "/")
+    };
+    let file = sources.add(&s.path, shown, s.text.clone());
+    let len = u32::try_from(s.text.len()).ok()?;
+    let start = u32::try_from(span.start).ok()?.min(len);
+    let end = u32::try_from(span.end).ok()?.clamp(start, len);
+    let f = Finding::new(
+        "settings",
+        Severity::Error,
+        Label::new(foldcheck::source::Span { file, start, end }, "here"),
+        s.message.clone(),
+    )
+    .with_help(
+        "see docs/format.md (settings) or `foldcheck schema --settings` for what the file may hold",
+    );
+    Some((sources, f))
 }

@@ -282,3 +282,51 @@ fn channels_left_out_by_a_failed_include_still_use_the_rigs_own_clocks() {
     assert_eq!(rules_of(&report), ["include"], "{report:#}");
     assert_eq!(report["findings"].as_array().unwrap().len(), 1);
 }
+
+#[test]
+fn a_settings_error_is_rendered_like_a_finding() {
+    let dir = repo(true);
+    write(dir.path(), "foldcheck.toml", "[rules]\nnyquits = \"off\"\n");
+    let out = run_in(
+        dir.path(),
+        &["check", "--color", "never", "rigs/bay-1.rig.yaml"],
+    );
+    assert_eq!(out.status.code(), Some(2));
+    // The whole rendering is pinned: the same excerpt, label and help layout as a
+    // finding (compare tests/cases/*/*.human), under the code `settings`.
+    assert_eq!(
+        String::from_utf8_lossy(&out.stderr),
+        "foldcheck: invalid settings file
+settings
+
+  × unknown rule `nyquits`; did you mean `nyquist`?
+   ╭─[foldcheck.toml:2:11]
+ 1 │ [rules]
+ 2 │ nyquits = \"off\"
+   ·           ──┬──
+   ·             ╰── here
+   ╰────
+  help: see docs/format.md (settings) or `foldcheck schema --settings` for what the file may hold
+"
+    );
+}
+
+#[test]
+fn a_file_named_on_the_command_line_is_linted_even_when_settings_exclude_it() {
+    // docs/format.md, "exclude": a named file is what the user asked for; the run says
+    // that the settings would have left it out. Walking a directory still skips it.
+    let dir = repo(true);
+    write(dir.path(), "foldcheck.toml", "exclude = [\"archive/**\"]\n");
+    write(dir.path(), "archive/old.rig.yaml", &rig("old", "20 kHz"));
+    let (report, code) = check_json(dir.path(), &["archive/old.rig.yaml"]);
+    assert_eq!(report["files"], 1);
+    assert_eq!(rules_of(&report), ["sampling-margin"]);
+    assert_eq!(code, 0);
+    let out = run_in(dir.path(), &["check", "archive/old.rig.yaml"]);
+    assert_eq!(
+        String::from_utf8_lossy(&out.stderr).trim_end(),
+        "foldcheck: note: archive/old.rig.yaml is linted because it was named, although the settings exclude it (`archive/**` in foldcheck.toml)"
+    );
+    let (report, _) = check_json(dir.path(), &["."]);
+    assert_eq!(report["files"], 1, "only rigs/bay-1.rig.yaml when walking");
+}
