@@ -250,6 +250,12 @@ pub(crate) fn job_file(job: &Job) -> PathBuf {
 /// default settings, suppressions, sorting). Includes are read from the file system
 /// relative to `name`, and may not leave `name`'s directory.
 pub fn lint_text(name: &str, text: &str) -> (Sources, Vec<Finding>) {
+    let (sources, findings, _) = lint_text_keeping_rig(name, text);
+    (sources, findings)
+}
+
+/// [`lint_text`], also returning the resolved rig (when the text is a rig that reads).
+pub fn lint_text_keeping_rig(name: &str, text: &str) -> (Sources, Vec<Finding>, Option<Rig>) {
     let path = PathBuf::from(name);
     let dir = path
         .parent()
@@ -269,16 +275,49 @@ pub fn lint_text(name: &str, text: &str) -> (Sources, Vec<Finding>) {
     overlay.insert(absolute(&path), text.to_string());
     let opts = Options {
         overlay: Some(Arc::new(overlay)),
+        keep_rigs: true,
         ..Options::default()
     };
     match run_jobs(vec![job], &opts) {
         Ok(mut out) => {
             crate::fix::verify(&mut out, DEFAULT_MAX_FILE_BYTES);
-            (out.sources, out.findings)
+            let rig = out.rigs.pop().and_then(|r| r.rig);
+            (out.sources, out.findings, rig)
         }
         // Only reading can fail, and the text comes from memory.
         Err(e) => unreachable!("an in-memory rig is always readable: {e}"),
     }
+}
+
+/// The channels of a rig that were neither analysed nor named in a finding: a finding
+/// that names the channel, or whose place (primary or secondary) lies inside the
+/// channel's item, the items of its clock path, its module or its sensor. The promise
+/// is that this list is always empty (README, "Limits"); tests and the fuzz
+/// targets check it.
+pub fn silently_skipped(rig: &Rig, findings: &[Finding]) -> Vec<String> {
+    let mut out = Vec::new();
+    for c in rig.channels.iter().filter(|c| !c.ok) {
+        let mut places = vec![c.def.item];
+        if let Some(k) = c.clock {
+            places.extend(rig.clock_path(k).iter().map(|&i| rig.clocks[i].def.item));
+        }
+        if let Some(m) = c.module {
+            places.push(rig.modules[m].item);
+        }
+        if let Some(s) = c.sensor {
+            places.push(rig.sensors[s].item);
+        }
+        let named = findings.iter().any(|f| {
+            f.channel.as_deref() == Some(c.def.name.value.as_str())
+                || std::iter::once(&f.primary)
+                    .chain(&f.secondary)
+                    .any(|l| places.iter().any(|p| p.contains(&l.span)))
+        });
+        if !named {
+            out.push(c.def.name.value.clone());
+        }
+    }
+    out
 }
 
 /// The distinct campaign roots of the jobs that no settings file chose.

@@ -35,7 +35,7 @@ impl Severity {
     }
 }
 
-/// The input rules (docs/format.md, "Input rules"): they say the file could not be read
+/// The input rules (README, "Limits"): they say the file could not be read
 /// as a rig, so they are always errors. A settings file may not name them and a
 /// suppression comment may not silence them.
 pub const INPUT_RULES: &[&str] = &[

@@ -385,3 +385,184 @@ fn include_chain_deeper_than_the_limit_is_a_finding_not_a_stack_overflow() {
         ]
     );
 }
+
+// ---- nothing dropped in silence: the schema's bounds are the model's
+
+/// A rig with one derived clock and one channel on it; `clock_extra` and `chan_extra`
+/// are put into the derived clock and the channel.
+fn bounds_rig(clock_extra: &str, chan_extra: &str) -> String {
+    format!(
+        "format: 1\nrig: bounds\nclocks:\n  - name: osc\n    frequency: 48 kHz\n  - name: frame\n    source: osc\n{clock_extra}channels:\n  - name: ch\n    clock: frame\n    band: 20 kHz\n{chan_extra}"
+    )
+}
+
+#[test]
+fn divider_of_two_to_the_32_is_a_schema_finding_not_a_silently_skipped_channel() {
+    // Regression: the schema took it, the model marked the channel broken without a
+    // finding: no `nyquist`, exit 0, and a false `unused-clock` on `osc`.
+    let f = lint(&bounds_rig("    divide: 4294967296\n", ""));
+    assert_eq!(
+        f,
+        [
+            "error schema 8:13-8:23 `divide: 4294967296` in clock `frame` is out of range: it must be a whole number from 1 to 4294967295"
+        ]
+    );
+    let f = lint(&bounds_rig("    multiply: 4294967296\n", ""));
+    assert_eq!(
+        f,
+        [
+            "error schema 8:15-8:25 `multiply: 4294967296` in clock `frame` is out of range: it must be a whole number from 1 to 4294967295"
+        ]
+    );
+    let f = lint(&bounds_rig(
+        "",
+        "    decimate:\n      - factor: 4294967296\n",
+    ));
+    assert_eq!(
+        f,
+        [
+            "error schema 13:17-13:27 `factor: 4294967296` in decimation stage 1 of channel `ch` is out of range: it must be a whole number from 2 to 4294967295"
+        ]
+    );
+}
+
+#[test]
+fn adc_bits_above_32_is_a_schema_finding_not_a_silent_fall_to_40_db() {
+    // Regression: `adc-bits: 65` was dropped and the required rejection fell from the
+    // 6.02·N + 1.76 dB of the module to the built-in 40 dB without a word.
+    let text = "format: 1\nrig: bits\nclocks:\n  - name: osc\n    frequency: 48 kHz\nmodules:\n  - name: card\n    adc-bits: 65\nchannels:\n  - name: ch\n    clock: osc\n    module: card\n    band: 20 kHz\n";
+    assert_eq!(
+        lint(text),
+        [
+            "error schema 8:15-8:17 `adc-bits: 65` in module `card` is out of range: it must be a whole number from 1 to 32",
+            // The channel is still analysed against the next requirement in line (the
+            // built-in 40 dB), and the schema finding above says why.
+            "error alias-rejection 11:12-11:15 energy at 28 kHz folds into the 20 kHz band of `ch` at the ADC (48 kHz) with 0.00 dB of attenuation, 40.00 dB needed",
+            "warning sampling-margin 11:12-11:15 `ch` samples at 48 kHz, only 2.4× its 20 kHz band (the margin is 2.5×)",
+        ]
+    );
+}
+
+#[test]
+fn alias_and_merge_onto_a_bare_number_frequency_are_read_as_the_number() {
+    // Regression: the quantity was re-read from the alias's text: "`*f` is not a
+    // frequency", and the clock then got a false `unused-clock`.
+    let text = "format: 1\nrig: alias\nclocks:\n  - name: osc\n    frequency: &f 48000\n  - name: copy\n    frequency: *f\n  - &base\n    name: base\n    frequency: 12000\n  - <<: *base\n    name: merged\nchannels:\n  - name: a\n    clock: copy\n    band: 4 kHz\n    filters: [{ response: butterworth, order: 8, cutoff: 5 kHz }]\n  - name: b\n    clock: merged\n    band: 4 kHz\n    filters: [{ response: butterworth, order: 8, cutoff: 5 kHz }]\n  - name: c\n    clock: osc\n    band: 4 kHz\n    filters: [{ response: butterworth, order: 8, cutoff: 5 kHz }]\n  - name: d\n    clock: base\n    band: 4 kHz\n    filters: [{ response: butterworth, order: 8, cutoff: 5 kHz }]\n";
+    let f = lint(text);
+    assert!(
+        !f.iter()
+            .any(|f| f.contains(" quantity ") || f.contains("unused-clock")),
+        "{f:#?}"
+    );
+    // `copy` runs at 48 kHz like `osc`, `merged` at 12 kHz like `base`: the channels on
+    // them get exactly the findings of their twins.
+    let of = |ch: &str| -> Vec<String> {
+        f.iter()
+            .filter(|l| l.contains(&format!("`{ch}`")))
+            .map(|l| {
+                l.splitn(4, ' ')
+                    .nth(3)
+                    .unwrap()
+                    .replace(&format!("`{ch}`"), "`x`")
+            })
+            .collect()
+    };
+    assert!(!of("b").is_empty(), "{f:#?}");
+    assert_eq!(of("a"), of("c"));
+    assert_eq!(of("b"), of("d"));
+}
+
+// ---- `digital` edges: 0 < passband < stopband, and below half the input rate
+
+#[test]
+fn reversed_digital_edges_are_a_schema_finding_instead_of_a_100_db_pass() {
+    let text = "format: 1\nrig: edges\nclocks:\n  - name: osc\n    frequency: 48 kHz\nchannels:\n  - name: ch\n    clock: osc\n    band: 2 kHz\n    decimate:\n      - factor: 4\n        filter: { response: digital, passband-edge: 0.3, stopband-edge: 0.1, attenuation: 100 dB }\n";
+    assert_eq!(
+        lint(text),
+        [
+            "error schema 12:73-12:76 the stopband edge 0.1 of a `digital` filter is not above its passband edge 0.3"
+        ]
+    );
+}
+
+#[test]
+fn digital_stopband_at_half_the_stage_input_rate_is_a_schema_finding() {
+    let text = "format: 1\nrig: edges\nclocks:\n  - name: osc\n    frequency: 48 kHz\nchannels:\n  - name: ch\n    clock: osc\n    band: 2 kHz\n    decimate:\n      - factor: 2\n        filter: { response: digital, passband-edge: 0.3, stopband-edge: 1, attenuation: 100 dB }\n";
+    assert_eq!(
+        lint(text),
+        [
+            "error schema 12:73-12:74 the stopband edge 1 of a `digital` filter is not below half its input rate (1 in units of its output rate)"
+        ]
+    );
+}
+
+// ---- smaller ones
+
+#[test]
+fn underscored_integer_is_refused_as_an_underscored_frequency_is() {
+    // Regression: `4_0` was read as 40 (YAML 1.1) while `48_000` was refused as a
+    // frequency; YAML 1.2 reads both as text.
+    let f = lint(&bounds_rig("    divide: 4_0\n", ""));
+    assert_eq!(
+        f,
+        [
+            "error schema 8:13-8:16 `divide` of clock `frame` takes a whole number, not the text `4_0`"
+        ]
+    );
+}
+
+#[test]
+fn infinite_frequency_is_a_quantity_finding_not_a_parser_policy() {
+    // Regression: `.inf` was "rejected by the configured policy" (a parser option the
+    // user never set).
+    let text = "format: 1\nrig: inf\nclocks:\n  - name: osc\n    frequency: .inf\nchannels:\n  - name: ch\n    clock: osc\n    band: 20 kHz\n";
+    let f = lint(text);
+    assert_eq!(f.len(), 1, "{f:#?}");
+    assert!(
+        f[0].starts_with("error quantity 5:16-5:20 `.inf` is not a frequency"),
+        "{f:#?}"
+    );
+}
+
+#[test]
+fn document_that_is_null_is_not_called_empty() {
+    assert_eq!(
+        lint("null\n"),
+        [
+            "error schema 1:1-1:1 the document is null, where a rig file is a mapping with at least `format` and `rig`"
+        ]
+    );
+    assert_eq!(
+        lint("# nothing yet\n\n"),
+        ["error schema 1:1-1:1 the file is empty; a rig file needs at least `format` and `rig`"]
+    );
+}
+
+#[test]
+fn duplicate_name_between_a_rig_and_its_catalog_is_filed_against_the_rig() {
+    let tmp = tempfile::tempdir().unwrap();
+    std::fs::write(
+        tmp.path().join("lab.yaml"),
+        "format: 1\ncatalog: lab\nclocks:\n  - name: osc\n    frequency: 48 kHz\n",
+    )
+    .unwrap();
+    std::fs::write(
+        tmp.path().join("bay.rig.yaml"),
+        "format: 1\nrig: bay\ninclude: [lab.yaml]\nclocks:\n  - name: osc\n    frequency: 96 kHz\nchannels:\n  - name: ch\n    clock: osc\n    band: 20 kHz\n    filters: [{ response: butterworth, order: 8, cutoff: 22 kHz }]\n",
+    )
+    .unwrap();
+    let (report, _) = common::check_json(tmp.path(), &["bay.rig.yaml"]);
+    let dup: Vec<String> = report["findings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|f| f["rule"] == "duplicate-name")
+        .map(|f| format!("{} {}", f["file"].as_str().unwrap(), common::plain(f)))
+        .collect();
+    assert_eq!(
+        dup,
+        [
+            "bay.rig.yaml error duplicate-name 5:11-5:14 the clock name `osc` is defined twice\n  help: rename one of them; clock names must be unique across a rig and its includes"
+        ]
+    );
+}

@@ -18,6 +18,11 @@ pub struct Builder<'a> {
     /// Findings produced while reading (`quantity`).
     pub findings: Vec<Finding>,
     broken: bool,
+    /// While reading a decimation stage's filter: the stage's factor; while reading a
+    /// converter's filter with an `oversampling-ratio`: that ratio. A `digital` filter's
+    /// stopband edge must lie below half of it (half the input rate, in units of the
+    /// output rate).
+    rate_ratio: Option<u64>,
 }
 
 /// Build a document from its root node. Returns the document and the `quantity`
@@ -28,6 +33,7 @@ pub fn build(file: FileId, text: &str, role: Role, root: &Node) -> (Document, Ve
         text,
         findings: Vec::new(),
         broken: false,
+        rate_ratio: None,
     };
     let doc = b.document(role, root);
     (doc, b.findings)
@@ -152,10 +158,23 @@ impl<'a> Builder<'a> {
     fn quantity_text(&self, node: &Node) -> Option<String> {
         match &node.kind {
             NodeKind::Str(s) => Some(s.clone()),
-            NodeKind::Int(_) | NodeKind::Float(_) => self
-                .text
-                .get(node.span.start as usize..node.span.end as usize)
-                .map(str::to_string),
+            NodeKind::Int(_) | NodeKind::Float(_) => {
+                let written = self
+                    .text
+                    .get(node.span.start as usize..node.span.end as usize)
+                    .unwrap_or("");
+                // An alias (`*f`) or a merged entry (`<<: *base`) has its span at the
+                // alias, not at the number: then the number is written out again.
+                if written.starts_with(|c: char| c.is_ascii_digit() || "+-.".contains(c)) {
+                    Some(written.to_string())
+                } else {
+                    Some(match node.kind {
+                        NodeKind::Int(i) => i.to_string(),
+                        NodeKind::Float(f) => f.to_string(),
+                        _ => unreachable!("matched above"),
+                    })
+                }
+            }
             _ => None,
         }
     }
@@ -289,7 +308,7 @@ impl<'a> Builder<'a> {
             }
         });
         let def = match (frequency, source) {
-            _ if broken => ClockDef::Invalid,
+            (_, source) if broken => ClockDef::Invalid { source },
             (Some(frequency), None) if divide.is_none() && multiply.is_none() => {
                 ClockDef::Root { frequency }
             }
@@ -298,7 +317,7 @@ impl<'a> Builder<'a> {
                 divide,
                 multiply,
             },
-            _ => ClockDef::Invalid,
+            (_, source) => ClockDef::Invalid { source },
         };
         Some(Clock {
             name: name?,
@@ -374,7 +393,7 @@ impl<'a> Builder<'a> {
                         named = true;
                     }
                 }
-                "adc-bits" => m.adc_bits = self.small(v, 1, 64),
+                "adc-bits" => m.adc_bits = self.small(v, 1, 32),
                 "max-rate" => m.max_rate = self.hz(v),
                 "rates" if v.as_seq().is_some() => {
                     let rates = self.list(v, |b, n| b.hz(n));
@@ -438,12 +457,14 @@ impl<'a> Builder<'a> {
     fn stage(&mut self, node: &Node) -> Option<Stage> {
         let mut factor = None;
         let mut filter = None;
-        for (k, v) in self.entries(node) {
-            match k.as_str().unwrap_or("") {
-                "factor" => factor = self.small(v, 2, u32::MAX),
-                "filter" => filter = self.filter(v, true),
-                _ => {}
-            }
+        let entries = self.entries(node);
+        if let Some((_, v)) = entries.iter().find(|(k, _)| k.as_str() == Some("factor")) {
+            factor = self.small(v, 2, u32::MAX);
+        }
+        if let Some((_, v)) = entries.iter().find(|(k, _)| k.as_str() == Some("filter")) {
+            self.rate_ratio = factor.as_ref().map(|f| u64::from(f.value));
+            filter = self.filter(v, true);
+            self.rate_ratio = None;
         }
         let Some(factor) = factor else {
             self.broken = true;
@@ -523,8 +544,8 @@ impl<'a> Builder<'a> {
             },
             Some("table") => Response::Table { points: points? },
             Some("digital") => Response::Digital {
-                passband_edge: f(passband)?,
-                stopband_edge: f(stopband)?,
+                passband_edge: f(passband.clone())?,
+                stopband_edge: self.check_edges(passband?, stopband?)?,
                 attenuation: f(attenuation)?,
                 delay,
             },
@@ -541,6 +562,53 @@ impl<'a> Builder<'a> {
             response,
             values,
         })
+    }
+
+    /// A `digital` filter's edges must satisfy 0 < passband < stopband, and the stopband
+    /// edge must lie below half of [`Builder::rate_ratio`] when there is one; anything
+    /// else is a located `schema` finding. Returns the stopband edge.
+    fn check_edges(&mut self, passband: Sp<f64>, stopband: Sp<f64>) -> Option<f64> {
+        let finding = if stopband.value <= passband.value {
+            Some(
+                Finding::new(
+                    "schema",
+                    Severity::Error,
+                    Label::new(stopband.span, "not above the passband edge"),
+                    format!(
+                        "the stopband edge {} of a `digital` filter is not above its passband edge {}",
+                        stopband.value, passband.value
+                    ),
+                )
+                .with_label(passband.span, "passband edge")
+                .with_help("a `digital` filter passes up to `passband-edge` and attenuates from `stopband-edge`: write 0 < passband-edge < stopband-edge"),
+            )
+        } else if let Some(m) = self.rate_ratio
+            && stopband.value * 2.0 >= m as f64
+        {
+            Some(
+                Finding::new(
+                    "schema",
+                    Severity::Error,
+                    Label::new(stopband.span, "not below half the input rate"),
+                    format!(
+                        "the stopband edge {} of a `digital` filter is not below half its input rate ({} in units of its output rate)",
+                        stopband.value,
+                        m as f64 / 2.0
+                    ),
+                )
+                .with_help("edges are fractions of the output rate; the stopband must start below half the rate the filter runs at"),
+            )
+        } else {
+            None
+        };
+        match finding {
+            Some(f) => {
+                self.broken = true;
+                self.findings.push(f);
+                None
+            }
+            None => Some(stopband.value),
+        }
     }
 
     /// Refuse a negative value with a `quantity` finding (zero is allowed: a delay may
@@ -574,9 +642,20 @@ impl<'a> Builder<'a> {
             match k.as_str().unwrap_or("") {
                 "rate" => rate = self.hz(v),
                 "oversampling-ratio" => ratio = self.uint(v, 1, u32::MAX.into()),
-                "filter" => filter = self.filter(v, false),
                 _ => {}
             }
+        }
+        // The converter's filter runs at the modulator rate: with a ratio, its stopband
+        // must lie below half of it (with a `rate`, the ratio is known only once the
+        // ADC rate is).
+        if let Some((_, v)) = self
+            .entries(node)
+            .iter()
+            .find(|(k, _)| k.as_str() == Some("filter"))
+        {
+            self.rate_ratio = ratio.as_ref().map(|r| r.value);
+            filter = self.filter(v, false);
+            self.rate_ratio = None;
         }
         let rate = match (rate, ratio) {
             (Some(r), None) => ModulatorRate::Rate(r),

@@ -112,8 +112,13 @@ pub enum ClockDef {
         /// Multiplier (default 1).
         multiply: Option<Sp<u64>>,
     },
-    /// Broken (already reported).
-    Invalid,
+    /// Broken (already reported). A derived clock keeps its source's name, so that its
+    /// source still counts as used (no false `unused-clock`) and the channels on it are
+    /// named by the finding on the clock.
+    Invalid {
+        /// The `source` it names, if it names one.
+        source: Option<Sp<String>>,
+    },
 }
 
 /// A sensor's response peak above its band.

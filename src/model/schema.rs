@@ -29,12 +29,29 @@ fn validator() -> &'static jsonschema::Validator {
 /// it concerns (unknown keys at the key itself, missing keys at the mapping's key).
 pub fn check(root: &Node, text: &str) -> Vec<Finding> {
     if let NodeKind::Null = root.kind {
+        // Only comments, blank lines and document markers: the file is empty. Anything
+        // else that reads as null (`null`, `~`) is a document that holds nothing.
+        let empty = text.lines().all(|l| {
+            let l = l.trim_matches(|c: char| c.is_whitespace() || c == '\u{feff}');
+            l.is_empty() || l.starts_with('#') || l == "---" || l == "..."
+        });
+        let (label, message) = if empty {
+            (
+                "empty document",
+                "the file is empty; a rig file needs at least `format` and `rig`",
+            )
+        } else {
+            (
+                "a null document",
+                "the document is null, where a rig file is a mapping with at least `format` and `rig`",
+            )
+        };
         return vec![
             Finding::new(
                 "schema",
                 Severity::Error,
-                Label::new(root.span, "empty document"),
-                "the file is empty; a rig file needs at least `format` and `rig`",
+                Label::new(root.span, label),
+                message,
             )
             .with_help("start the file with `format: 1` and `rig: <name>`"),
         ];

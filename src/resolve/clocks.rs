@@ -32,7 +32,10 @@ pub(super) fn resolve_clocks(
     let mut graph: DiGraph<usize, ()> = DiGraph::with_capacity(defs.len(), defs.len());
     let nodes: Vec<NodeIndex> = (0..defs.len()).map(|i| graph.add_node(i)).collect();
     for (i, c) in defs.iter().enumerate() {
-        if let ClockDef::Derived { source, .. } = &c.def
+        if let ClockDef::Derived { source, .. }
+        | ClockDef::Invalid {
+            source: Some(source),
+        } = &c.def
             && let Some(p) = lookup(source, out)
         {
             clocks[i].parent = Some(p);
@@ -118,7 +121,7 @@ pub(super) fn resolve_clocks(
                 }
                 _ => (None, None),
             },
-            ClockDef::Invalid => (None, None),
+            ClockDef::Invalid { .. } => (None, None),
         };
         clocks[i].rate = rate;
         clocks[i].root = root;

@@ -274,26 +274,38 @@ struct Names<'a> {
     /// in `deferred` instead of being reported.
     open: bool,
     deferred: std::cell::RefCell<Vec<Span>>,
+    /// The rig file (its definitions are read first).
+    rig: FileId,
 }
 
 impl<'a> Names<'a> {
-    fn new(section: &'static str) -> Self {
+    fn new(section: &'static str, rig: FileId) -> Self {
         Names {
             section,
             seen: HashMap::new(),
             open: false,
             deferred: std::cell::RefCell::new(Vec::new()),
+            rig,
         }
     }
 
     /// Register a name; a second definition is a `duplicate-name` finding.
     fn add(&mut self, name: &'a Sp<String>, index: usize, out: &mut Vec<Finding>) -> bool {
         if let Some((_, first)) = self.seen.get(name.value.as_str()) {
+            // The rig is read first, so its definition is `first` when a catalog defines
+            // the name again; the rig's is the one to rename (the catalog serves other
+            // rigs), so the finding is filed there.
+            let (again, first) = if first.file != name.span.file && first.file == self.rig {
+                (*first, name.span)
+            } else {
+                (name.span, *first)
+            };
+            let first = &first;
             out.push(
                 Finding::new(
                     "duplicate-name",
                     Severity::Error,
-                    Label::new(name.span, "defined again here"),
+                    Label::new(again, "defined again here"),
                     format!(
                         "the {} name `{}` is defined twice",
                         self.section, name.value
@@ -404,11 +416,11 @@ pub fn resolve_incomplete(
     // Sections across the rig and its includes: the rig's own entries first, so a
     // duplicate is reported in the catalog, whose entry is the one left out.
     let order: Vec<&Document> = docs.to_vec();
-    let mut clock_names = Names::new("clock");
+    let mut clock_names = Names::new("clock", rig_doc.file);
     let mut clocks_def: Vec<Clock> = Vec::new();
-    let mut sensor_names = Names::new("sensor");
+    let mut sensor_names = Names::new("sensor", rig_doc.file);
     let mut sensors: Vec<Sensor> = Vec::new();
-    let mut module_names = Names::new("module");
+    let mut module_names = Names::new("module", rig_doc.file);
     let mut modules: Vec<Module> = Vec::new();
     clock_names.open = incomplete;
     sensor_names.open = incomplete;
@@ -483,7 +495,7 @@ pub fn resolve_incomplete(
     };
 
     // Channels.
-    let mut channel_names = Names::new("channel");
+    let mut channel_names = Names::new("channel", rig_doc.file);
     let mut channels: Vec<RChannel> = Vec::new();
     // (module, ADC rate) pairs whose modulator rate is no multiple of the ADC rate,
     // with the first channel concerned and how many more.
@@ -647,7 +659,7 @@ pub fn resolve_incomplete(
         );
     }
 
-    let mut group_names = Names::new("group");
+    let mut group_names = Names::new("group", rig_doc.file);
     let mut groups = Vec::new();
     let mut group_members = Vec::new();
     for g in &rig_doc.groups {
@@ -664,7 +676,7 @@ pub fn resolve_incomplete(
         group_members.push(members);
     }
 
-    let mut dist_names = Names::new("disturbance");
+    let mut dist_names = Names::new("disturbance", rig_doc.file);
     let mut disturbances = Vec::new();
     let mut disturbance_targets = Vec::new();
     for d in &rig_doc.disturbances {

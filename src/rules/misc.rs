@@ -518,7 +518,7 @@ fn check_unused_clock(a: &RigAnalysis, out: &mut Vec<Finding>) {
     for (i, c) in rig.clocks.iter().enumerate() {
         if c.def.name.span.file != rig.file
             || c.in_cycle
-            || matches!(c.def.def, crate::model::ClockDef::Invalid)
+            || matches!(c.def.def, crate::model::ClockDef::Invalid { .. })
         {
             continue;
         }

@@ -142,7 +142,7 @@ pub fn clock_labels(rig: &Rig, clock: usize) -> Vec<Label> {
                     None => {}
                 }
             }
-            ClockDef::Invalid => {}
+            ClockDef::Invalid { .. } => {}
         }
     }
     labels

@@ -176,6 +176,9 @@ pub fn parse_with_serde(file: FileId, text: &str, lines: &LineIndex) -> Result<N
     let mut options = serde_saphyr::Options::default();
     options.strict_booleans = true;
     options.with_snippet = false;
+    // `.inf` and `.nan` arrive as text: a quantity or a number field then says what it
+    // expected, instead of the parser refusing the whole file.
+    options.non_finite_float_policy = serde_saphyr::NonFiniteFloatPolicy::AsString;
     let budget = options
         .budget
         .get_or_insert_with(serde_saphyr::Budget::default);
@@ -564,6 +567,11 @@ fn convert(file: FileId, text: &str, lines: &LineIndex, raw: Spanned<Raw>) -> No
     let kind = match raw.value {
         Raw::Null => NodeKind::Null,
         Raw::Bool(b) => NodeKind::Bool(b),
+        // YAML 1.1 reads `4_0` as 40, YAML 1.2 as text; foldcheck takes the 1.2 reading
+        // everywhere (a quantity never takes `_` either), so `divide: 4_0` is refused.
+        Raw::Int(_) | Raw::Float(_) if underscored(text, span) => {
+            NodeKind::Str(text[span.start as usize..span.end as usize].to_string())
+        }
         Raw::Int(i) => NodeKind::Int(i),
         Raw::Float(f) => NodeKind::Float(f),
         Raw::Str(s) => NodeKind::Str(s),
@@ -591,6 +599,14 @@ fn convert(file: FileId, text: &str, lines: &LineIndex, raw: Spanned<Raw>) -> No
         }
     };
     Node { span, kind }
+}
+
+/// Whether the plain number written at `span` uses `_` separators (`4_0`, `48_000`).
+fn underscored(text: &str, span: Span) -> bool {
+    text.get(span.start as usize..span.end as usize)
+        .is_some_and(|s| {
+            s.starts_with(|c: char| c.is_ascii_digit() || "+-.".contains(c)) && s.contains('_')
+        })
 }
 
 /// Extend a flow collection's span over its closing bracket.
