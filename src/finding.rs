@@ -90,7 +90,7 @@ pub struct Finding {
     pub help: Option<String>,
     /// The channel the finding is about, if any.
     pub channel: Option<String>,
-    /// Machine-readable values (SPEC §5).
+    /// Machine-readable values (docs/model.md).
     pub values: Map<String, Value>,
     /// The reason given by a suppression comment that covers this finding.
     pub suppressed: Option<String>,

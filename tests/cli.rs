@@ -1,5 +1,5 @@
 //! Black-box tests of the real binary: exit statuses, JSON parsed strictly, output
-//! order, settings precedence, colour, and the SPEC §5 worked checks through JSON values.
+//! order, settings precedence, colour, and the worked checks of docs/format.md through JSON values.
 
 mod common;
 
@@ -58,7 +58,7 @@ fn audio_cd_rate_is_above_nyquist_but_below_the_margin() {
     assert_eq!(
         keys,
         ["rate_hz", "band_hz", "ratio", "margin", "stage"],
-        "SPEC §7 order"
+        "the documented output order, README"
     );
 }
 
@@ -83,7 +83,7 @@ fn fail_on_sets_the_exit_status() {
 #[test]
 fn exact_clock_division_and_the_worked_butterworth() {
     // 24.576 MHz / 512 = 48 kHz exactly (ratio 2.4 for a 20 kHz band); a 4th-order
-    // Butterworth at 20 kHz gives 11.97 dB at 48 − 20 = 28 kHz (SPEC §5; the formula
+    // Butterworth at 20 kHz gives 11.97 dB at 48 − 20 = 28 kHz (docs/model.md; the formula
     // 10·log10(1 + (f/fc)^(2n)) agrees with scipy.signal.butter + freqs, see
     // tests/reference/filters.csv).
     let dir = tempfile::tempdir().unwrap();

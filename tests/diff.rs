@@ -3,18 +3,18 @@
 //! Every expected number is worked out by hand in the comments. Two facts carry most of
 //! them:
 //! - clock rates are exact: 24.576 MHz ÷ 512 = 24 576 000 / 512 = 48 000 Hz exactly, and
-//!   ÷ 1024 = 24 000 Hz (SPEC §5 worked check; plain arithmetic);
+//!   ÷ 1024 = 24 000 Hz (worked check of docs/format.md; plain arithmetic);
 //! - every test channel has the ADC-level digital filter `passband-edge: 0.45,
-//!   stopband-edge: 0.5, attenuation: 100 dB`. By SPEC §4 a `digital` filter gives its
+//!   stopband-edge: 0.5, attenuation: 100 dB`. By docs/model.md, "Filter responses" a `digital` filter gives its
 //!   full attenuation from its stopband edge up, here 0.5·fs. The frequency that folds onto
-//!   the band edge is fs − B (SPEC §5), and fs − B ≥ 0.5·fs exactly when fs ≥ 2B, so every
+//!   the band edge is fs − B (docs/model.md), and fs − B ≥ 0.5·fs exactly when fs ≥ 2B, so every
 //!   rate change above twice the band sees exactly 100 dB, and none at or below it counts.
 //!   Below the passband edge, 0.45·fs, the filter gives 0 dB: no passband droop when
 //!   B ≤ 0.45·fs, i.e. fs/B ≥ 2.22, which holds for every ratio used here.
 //!
 //! Rule thresholds: `nyquist` fires when fs ≤ 2B (C. E. Shannon, 1949); `sampling-margin`
-//! when 2B < fs < 2.5·B (the 2.5 margin is common practice, SPEC §5 default);
-//! `oversampling` when fs > 20·B (SPEC default).
+//! when 2B < fs < 2.5·B (the 2.5 margin is common practice, the built-in default, docs/format.md);
+//! `oversampling` when fs > 20·B (the built-in default, docs/format.md).
 
 use serde_json::{Value, json};
 use std::path::{Path, PathBuf};
@@ -448,7 +448,7 @@ fn added_removed_renamed_and_edited_channels() {
 }
 
 /// The old rig already has a nyquist error (24 kHz for a 20 kHz band) and a
-/// sampling-margin warning (44.1 kHz for 20 kHz: ratio 2.205, SPEC worked check). The
+/// sampling-margin warning (44.1 kHz for 20 kHz: ratio 2.205, worked check of docs/format.md). The
 /// change adds a clean channel at the top (24 kHz / 2 kHz = 12), which moves both findings
 /// down and changes the nyquist help ("no other channel shares it" becomes "also changes 1
 /// other channel"): neither is introduced or resolved.
@@ -611,7 +611,7 @@ channels:
 /// `--rev HEAD` against a repository made here. The working tree lowers the catalog
 /// module's filter from 100 dB to 90 dB, edits vib-2's band from 20 kHz to 15 kHz, and
 /// adds an untracked rig. The module's 16-bit ADC sets the required rejection,
-/// 6.02 × 16 + 1.76 = 96.32 + 1.76 = 98.08 dB (ideal quantisation dynamic range, SPEC §5;
+/// 6.02 × 16 + 1.76 = 96.32 + 1.76 = 98.08 dB (ideal quantisation dynamic range, docs/model.md;
 /// W. Kester, MT-001, from memory). Both channels fold from above the 24 kHz stopband edge (48 − 10 = 38 kHz,
 /// 48 − 15 = 33 kHz), so each sees 90 dB < 98.08 dB: two alias-rejection errors. vib-2 at
 /// HEAD had 48 / 20 = 2.4 < 2.5 (sampling-margin); now 48 / 15 = 3.2: resolved.

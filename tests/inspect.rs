@@ -1,6 +1,6 @@
 //! `foldcheck inspect` through the real binary: the human text, the JSON document and the
-//! SVG plot of one channel, checked against the worked checks of SPEC §5 and their
-//! sources (SPEC §8):
+//! SVG plot of one channel, checked against the worked checks of docs/format.md and their
+//! sources (named there):
 //!
 //! - 24.576 MHz ÷ 512 = 48 kHz exactly, and a 20 kHz band gives fs/B = 2.4 (exact
 //!   arithmetic); fs > 2B holds, so no `nyquist` (C. E. Shannon, "Communication in the
@@ -97,7 +97,7 @@ fn human_output_shows_the_exact_clock_path_and_the_worked_numbers() {
         "{text}"
     );
     assert!(text.contains("fs − B = 28 kHz"), "{text}");
-    // 11.97 dB at 28 kHz (SPEC §5; scipy.signal.butter).
+    // 11.97 dB at 28 kHz (docs/model.md; scipy.signal.butter).
     assert!(
         text.contains("channel filter: 4th-order Butterworth at 20 kHz: 11.97 dB"),
         "{text}"
@@ -105,7 +105,7 @@ fn human_output_shows_the_exact_clock_path_and_the_worked_numbers() {
     assert_eq!(
         format!("{:.2}", butterworth_db(4, 20e3, 28e3)),
         "11.97",
-        "the closed form and SPEC agree"
+        "the closed form and the documented value agree"
     );
     // 40 dB built-in requirement, 28.03 dB short.
     assert!(

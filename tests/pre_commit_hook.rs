@@ -79,7 +79,7 @@ fn the_entry_names_the_binary_and_a_real_subcommand() {
         .expect("the binary runs");
     assert_eq!(bogus.status.code(), Some(2), "the probe can fail");
     // Run as pre-commit runs it: entry words, then file names. A rig with errors
-    // fails the commit (exit status 1, SPEC §7); a clean rig passes (0).
+    // fails the commit (exit status 1, docs/output.md, "Exit status"); a clean rig passes (0).
     let with_errors = Command::new(BIN)
         .args(&words[1..])
         .arg("examples/blade-fatigue.rig.yaml")

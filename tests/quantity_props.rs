@@ -1,4 +1,4 @@
-//! Properties of the quantity parser (SPEC §3, "Quantities"), on random input:
+//! Properties of the quantity parser (docs/format.md, "Quantities"), on random input:
 //! exact values written with a unit parse back to exactly that value; no string makes
 //! the parser panic; a unit in the wrong case always gets a help line naming the right
 //! spelling; printed rates parse back to within their 6 significant digits.
@@ -165,7 +165,7 @@ proptest! {
 
 #[test]
 fn the_spec_examples_of_near_misses_name_the_right_spelling() {
-    // SPEC §3: `KHz`, `khz`, `hz` are near misses.
+    // docs/format.md, "Quantities": `KHz`, `khz`, `hz` are near misses.
     for (text, help) in [
         ("10 KHz", "write `10 kHz`"),
         ("10 khz", "write `10 kHz`"),

@@ -158,7 +158,7 @@ fn position(text: &str, after: &str, needle: &str) -> (u64, u64) {
 // Rigs (a made-up lab; every number is worked out beside it)
 
 /// 24.576 MHz ÷ 512 = 48 kHz exactly; with a 20 kHz band the ratio is 2.4: above 2
-/// (no `nyquist`) but below the default margin of 2.5, so `sampling-margin` (SPEC §5,
+/// (no `nyquist`) but below the default margin of 2.5, so `sampling-margin` (docs/model.md,
 /// worked checks). `mic-1`: 24.576 MHz ÷ 32768 = 750 Hz, not above 2 × 400 Hz: a
 /// `nyquist` error, suppressed with a reason.
 const BAY3_RIG: &str = "\

@@ -1,5 +1,5 @@
 //! Property tests of `signal`: invariants that hold for every valid input, checked on
-//! random inputs with proptest. The invariants follow from the definitions in SPEC §4
+//! random inputs with proptest. The invariants follow from the definitions in docs/model.md, "Filter responses"
 //! (closed forms, pole-based phases) rather than from any single reference value.
 
 use foldcheck::signal::analog::{Analog, AnalogKind, MAX_ORDER};
@@ -62,7 +62,7 @@ proptest! {
         order in 1..=MAX_ORDER,
         x in 0.0f64..=1.0,
     ) {
-        // |T_n(x)| ≤ 1 on [0, 1], so 0 ≤ A ≤ ripple there (SPEC §4 closed form).
+        // |T_n(x)| ≤ 1 on [0, 1], so 0 ≤ A ≤ ripple there (docs/model.md, "Filter responses" closed form).
         let filter = Analog::new(AnalogKind::Chebyshev { ripple_db }, order, 50.0);
         let a = filter.attenuation_db(x * 50.0);
         prop_assert!(a >= -1e-9 && a <= ripple_db + 1e-9, "{filter:?} at {x}·fc: {a}");
@@ -144,7 +144,7 @@ proptest! {
         u in 0.0f64..100.0,
         k in 0u32..50,
     ) {
-        // |f − round(f/fs)·fs| (SPEC §5) lies in [0, fs/2] and ignores whole turns of fs.
+        // |f − round(f/fs)·fs| (docs/model.md) lies in [0, fs/2] and ignores whole turns of fs.
         let fs = 10f64.powf(log_fs);
         let f = u * fs;
         let alias = fold(f, fs);

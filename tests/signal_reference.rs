@@ -1,6 +1,6 @@
 //! `signal` checked against values from outside the project: tables computed with
 //! scipy.signal / numpy (committed beside the scripts that made them in
-//! `tests/reference/`), published closed forms, and the worked checks of SPEC §5.
+//! `tests/reference/`), published closed forms, and the worked checks of docs/format.md.
 
 use std::f64::consts::PI;
 use std::path::Path;
@@ -174,7 +174,7 @@ fn sinc_delay_matches_the_centroid_of_cascaded_moving_averages() {
 
 #[test]
 fn bessel_is_three_db_down_at_its_cutoff_for_every_order() {
-    // SPEC §4 and scipy.signal.bessel(norm='mag'): A(fc) = 10·log10(2) = 3.0103 dB.
+    // docs/model.md ("Filter responses") and scipy.signal.bessel(norm='mag'): A(fc) = 10·log10(2) = 3.0103 dB.
     for order in 1..=MAX_ORDER {
         let filter = Analog::new(AnalogKind::Bessel, order, 2_500.0);
         let a = filter.attenuation_db(2_500.0);
@@ -184,7 +184,7 @@ fn bessel_is_three_db_down_at_its_cutoff_for_every_order() {
 
 #[test]
 fn butterworth_and_chebyshev_meet_their_defining_points() {
-    // Published closed forms (SPEC §4): Butterworth A(fc) = 10·log10(2);
+    // Published closed forms (docs/model.md, "Filter responses"): Butterworth A(fc) = 10·log10(2);
     // Chebyshev T_n(1) = 1, so A(fc) = ripple, and at DC T_n(0) = 0 (odd n) or ±1
     // (even n), so A(0) = 0 or the ripple.
     for order in 1..=MAX_ORDER {
@@ -203,7 +203,7 @@ fn butterworth_and_chebyshev_meet_their_defining_points() {
 
 #[test]
 fn analog_stays_finite_far_beyond_the_table() {
-    // Closed form (SPEC §4), evaluated by hand in log form: Butterworth order 12 at
+    // Closed form (docs/model.md, "Filter responses"), evaluated by hand in log form: Butterworth order 12 at
     // 1e100 × fc is 20·12·100 = 24000 dB; Chebyshev grows as 20·n·log10(2x) + 20·log10(ε/2)
     // (T_n(x) → (2x)^n / 2), from memory / standard asymptote.
     let b = Analog::new(AnalogKind::Butterworth, 12, 1.0);
@@ -326,12 +326,12 @@ fn sinc_at_the_output_nyquist_frequency() {
 }
 
 // ---------------------------------------------------------------------------------
-// `digital` and `table` responses: SPEC §4 definitions, values worked by hand.
+// `digital` and `table` responses: definitions of docs/model.md, values worked by hand.
 // ---------------------------------------------------------------------------------
 
 #[test]
 fn digital_response_is_piecewise_linear_in_db() {
-    // SPEC §4 `digital`: 0 to 1 kHz, linear to 100 dB at 2 kHz, then held.
+    // The `digital` response (docs/model.md): 0 to 1 kHz, linear to 100 dB at 2 kHz, then held.
     let a = |f| digital_attenuation_db(1_000.0, 2_000.0, 100.0, f, None);
     assert_eq!(a(0.0), 0.0);
     assert_eq!(a(1_000.0), 0.0);
@@ -350,7 +350,7 @@ fn digital_response_is_piecewise_linear_in_db() {
 
 #[test]
 fn table_interpolates_linearly_in_db_over_log_frequency() {
-    // SPEC §4 `table`, worked by hand: halfway (in log10 f) between 1 kHz / 0 dB and
+    // The `table` response (docs/model.md), worked by hand: halfway (in log10 f) between 1 kHz / 0 dB and
     // 100 kHz / 40 dB is 10 kHz / 20 dB; a quarter is 10^3.5 Hz / 10 dB.
     let points = [(1_000.0, 0.0), (100_000.0, 40.0), (1e6, 60.0)];
     assert_eq!(table_attenuation_db(&points, 10.0), 0.0);
@@ -404,7 +404,7 @@ fn images_all_land_on_the_same_alias() {
 }
 
 // ---------------------------------------------------------------------------------
-// SPEC §5 worked checks.
+// Worked checks of docs/format.md.
 // ---------------------------------------------------------------------------------
 
 #[test]
@@ -456,8 +456,8 @@ fn max_cutoff_gives_exactly_the_required_attenuation() {
             }
         }
     }
-    // SPEC §5 case turned round: to get 80 dB at 28 kHz a 4th-order Butterworth needs a
-    // cutoff of 28 kHz / (10^8 − 1)^(1/8) (closed form of SPEC §4) ≈ 2.8 kHz.
+    // The docs/format.md worked check turned round: to get 80 dB at 28 kHz a 4th-order Butterworth needs a
+    // cutoff of 28 kHz / (10^8 − 1)^(1/8) (closed form of docs/model.md, "Filter responses") ≈ 2.8 kHz.
     let cutoff = max_cutoff_for(AnalogKind::Butterworth, 4, 28_000.0, 80.0).unwrap();
     let want = 28_000.0 / (1e8f64 - 1.0).powf(1.0 / 8.0);
     assert!((cutoff - want).abs() < 1e-9 * want);
@@ -498,7 +498,7 @@ fn min_order_is_the_smallest_that_meets_the_requirement() {
             }
         }
     }
-    // SPEC §5: 11.97 dB at 1.4 × fc takes a 4th-order Butterworth (the 3rd gives 9.1 dB
+    // docs/model.md: 11.97 dB at 1.4 × fc takes a 4th-order Butterworth (the 3rd gives 9.1 dB
     // by the closed form 10·log10(1 + 1.4^6)).
     assert_eq!(
         min_order_for(AnalogKind::Butterworth, 20_000.0, 28_000.0, 11.9),

@@ -163,7 +163,7 @@ pub struct Metrics {
     pub ratio: Option<Exact>,
     /// Worst alias attenuation; `None` when no rate change is above twice the band.
     pub alias: Option<Alias>,
-    /// The required rejection in dB (SPEC §5 precedence).
+    /// The required rejection in dB (precedence of docs/model.md, "Sampling and folding").
     pub required_db: f64,
 }
 

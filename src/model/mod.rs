@@ -320,7 +320,7 @@ pub struct FilterValues {
     pub attenuation: Option<Span>,
 }
 
-/// The filter responses of SPEC §4.
+/// The filter responses of docs/model.md, "Filter responses".
 #[derive(Clone, Debug, PartialEq)]
 pub enum Response {
     /// Butterworth, cutoff at −3 dB.

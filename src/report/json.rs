@@ -1,4 +1,4 @@
-//! JSON output, version 1 (SPEC §7).
+//! JSON output, version 1 (docs/output.md).
 
 use super::Counts;
 use crate::finding::{Finding, Fix};

@@ -21,7 +21,7 @@
 //!   line and column region) and `insertedContent`.
 //! - A suppressed finding is listed with `suppressions: [{kind: "inSource",
 //!   justification: <reason>}]`.
-//! - `properties` holds `channel` and the machine-readable `values` (SPEC §5) when
+//! - `properties` holds `channel` and the machine-readable `values` (docs/model.md) when
 //!   present.
 //! - A rule's `fullDescription` is its explanation with the paragraphs unwrapped; its
 //!   `help` carries the full text of `foldcheck rules RULE` (plain and Markdown), with

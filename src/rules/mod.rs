@@ -66,7 +66,7 @@ impl Rule {
     }
 }
 
-/// Every rule, in the order SPEC §5 lists them.
+/// Every rule, in the order `foldcheck rules` lists them.
 pub static RULES: &[&Rule] = &[
     &stage_rules::YAML_SYNTAX,
     &stage_rules::SCHEMA,

@@ -1,6 +1,6 @@
 //! Analog low-pass responses: Butterworth, Chebyshev type I and Bessel.
 //!
-//! Magnitudes follow the closed forms of SPEC §4 (Butterworth, Chebyshev) or the
+//! Magnitudes follow the closed forms of docs/model.md, "Filter responses" (Butterworth, Chebyshev) or the
 //! Bessel polynomial in its magnitude-normalised form, all evaluated in the log domain
 //! so that they stay finite and accurate from DC to far above the cutoff. Phases are
 //! summed pole by pole, each pole's angle being continuous in frequency, which yields
@@ -10,7 +10,7 @@ use std::f64::consts::{LN_2, PI};
 
 use super::{DB_PER_LN_POWER, bessel, ln_1p_exp, ln_ratio};
 
-/// The highest filter order foldcheck accepts (SPEC §4: orders 1–12).
+/// The highest filter order foldcheck accepts (docs/format.md: orders 1–12).
 pub const MAX_ORDER: u32 = 12;
 
 /// The family of an analog low-pass filter.

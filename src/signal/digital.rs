@@ -5,7 +5,7 @@ use std::f64::consts::PI;
 
 use super::fold::fold;
 
-/// SPEC `digital`: 0 dB up to passband edge, linear in dB across the transition, `attenuation_db`
+/// The `digital` response (docs/model.md): 0 dB up to passband edge, linear in dB across the transition, `attenuation_db`
 /// from the stopband edge up. If `period_hz` is Some(fin) (a decimation stage running at input
 /// rate fin), the response is that of a sampled filter: f is first folded into [0, fin/2]
 /// (periodic in fin, mirrored) before evaluation. Edges are already in Hz here.
@@ -32,7 +32,7 @@ pub fn digital_attenuation_db(
     }
 }
 
-/// SPEC `sinc`: −20·order·log10|sin(π f M / fin) / (M · sin(π f / fin))|. At exact nulls returns
+/// The `sinc` response (docs/model.md): −20·order·log10|sin(π f M / fin) / (M · sin(π f / fin))|. At exact nulls returns
 /// f64::INFINITY; at multiples of fin returns 0 (the limit). Never NaN. Must be numerically
 /// robust near nulls and near multiples of fin (use the limit or a small-argument form).
 ///

@@ -1,6 +1,6 @@
 //! Attenuation given as a datasheet table of points.
 
-/// SPEC `table`: points (f, dB) rising in f; linear in dB over log10(f) between points;
+/// The `table` response (docs/model.md): points (f, dB) rising in f; linear in dB over log10(f) between points;
 /// 0 below the first point; last value held above the last.
 ///
 /// An empty table attenuates nothing. Points are expected with positive, rising

@@ -8,7 +8,7 @@ channel, and recomputes independently:
 
 - the exact ADC rate with Python's fractions (root × multiply ÷ divide),
 - fs/B and the nyquist verdict fs > 2B (C. E. Shannon, Proc. IRE 37, 1949),
-- the lowest folding frequency fs − B (SPEC §5),
+- the lowest folding frequency fs − B (docs/model.md),
 - the chain's attenuation there and at the band edge, and its phase at the band edge,
   from scipy.signal.butter / cheby1 / bessel(norm='mag') with analog=True and freqs
   (phase unwrapped with numpy from DC on a dense grid),

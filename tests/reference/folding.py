@@ -32,7 +32,7 @@ TOLERANCE = 1e-6  # Hz, for --check
 
 
 def tones():
-    """Yield (f_hz, fs_hz): the worked example of SPEC section 5, then seeded random tones."""
+    """Yield (f_hz, fs_hz): the worked example of docs/format.md ("Worked checks"), then seeded random tones."""
     yield 16000.0, 5000.0
     rng = np.random.default_rng(SEED)
     made = 0
