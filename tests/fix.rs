@@ -368,7 +368,7 @@ fn catalog_campaign(dir: &Path) {
     fs::write(dir.join("foldcheck.toml"), "").unwrap();
     fs::write(
         dir.join("catalog/hall.yaml"),
-        "format: 1\ncatalog: hall\nclocks:\n  # the hall's reference\n  - name: hall-25k6\n    frequency: 25.6 KHz\n  - name: spare\n    frequency: 1 MHz\n",
+        "format: 1\ncatalog: hall\nclocks:\n  # the hall's reference\n  - name: hall-25k6\n    frequency: 25.6 KHz\n  - name: west-12k8\n    frequency: 12.8 KHz # the west bay's card\n",
     )
     .unwrap();
     for (rig, channels) in [("east", 2), ("west", 1)] {
@@ -377,6 +377,11 @@ fn catalog_campaign(dir: &Path) {
             text.push_str(&format!(
                 "  - name: {rig}-{i}\n    clock: hall-25k6\n    band: 5 kHz\n    filters: [{{ response: butterworth, order: 8, cutoff: 6 kHz }}]\n    alias-rejection: 40 dB\n"
             ));
+        }
+        if rig == "west" {
+            // 12.8 kHz for a 2 kHz band: an 8th-order Butterworth at 6 kHz gives
+            // 10·log10(1 + (10.8/6)^16) = 40.8 dB at fs − B (closed form).
+            text.push_str("  - { name: west-slow, clock: west-12k8, band: 2 kHz, filters: [{ response: butterworth, order: 8, cutoff: 6 kHz }], alias-rejection: 40 dB }\n");
         }
         fs::write(dir.join(format!("{rig}.rig.yaml")), text).unwrap();
     }
@@ -395,6 +400,13 @@ fn a_catalog_fix_needs_include_catalogs_and_says_what_it_reaches() {
     assert_eq!(
         f["fix"]["description"],
         "write the unit `KHz` as `kHz` (in a shared catalog: reaches 3 channels in 2 rigs)"
+    );
+    // The second clock's fix, verified in the same run of both rigs, counts its own.
+    let g = &report["findings"][1];
+    assert_eq!(g["line"], 8, "{report}");
+    assert_eq!(
+        g["fix"]["description"],
+        "write the unit `KHz` as `kHz` (in a shared catalog: reaches 1 channel in 1 rig)"
     );
     // Without --include-catalogs: not applied, and said so.
     let out = common::run_in(tmp.path(), &["fix", "--color", "never", "east.rig.yaml"]);
@@ -424,7 +436,9 @@ fn a_catalog_fix_needs_include_catalogs_and_says_what_it_reaches() {
     );
     assert_eq!(
         fs::read_to_string(&catalog).unwrap(),
-        original.replace("25.6 KHz", "25.6 kHz")
+        original
+            .replace("25.6 KHz", "25.6 kHz")
+            .replace("12.8 KHz", "12.8 kHz")
     );
     let (report, code) = common::check_json(tmp.path(), &["."]);
     assert_eq!(code, 0, "{report}");

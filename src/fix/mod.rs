@@ -10,12 +10,12 @@
 //! fix takes its help line with it ([`Finding::drop_fix`]): the help never proposes a
 //! change that fails this check.
 //!
-//! Cost: the edit sets that touch only one rig's own file are tried together, in one
-//! run of that rig; only when the combination adds a finding are the halves tried
+//! Cost: the edit sets that touch only one file are tried together, in one run of the
+//! rigs that read it; only when the combination adds a finding are the halves tried
 //! again, down to single sets. A rig with 200 independent misspelt references is
 //! linted twice, not 201 times. (So a fix kept from a combined run was verified beside
-//! the rig's other fixes, as `foldcheck fix` applies them.) An edit to a shared catalog
-//! is always tried alone, in every rig that includes the catalog.
+//! the file's other fixes, as `foldcheck fix` applies them.) Edits to one shared
+//! catalog are tried the same way, in every rig that includes the catalog.
 
 pub mod apply;
 
@@ -180,7 +180,7 @@ pub fn verify(out: &mut Outcome, max_file_bytes: u64) {
     }
     let ctx = VerifyCtx::new(out, max_file_bytes);
     let groups: Vec<(Vec<PathEdit>, Vec<usize>)> = groups.into_iter().collect();
-    let batches = batches(&groups, &ctx.rig_paths);
+    let batches = batches(&groups);
     let mut verdicts: Vec<(usize, Verdict)> = batches
         .par_iter()
         .flat_map_iter(|b| ctx.verify_batch(&groups, b))
@@ -203,18 +203,15 @@ pub fn verify(out: &mut Outcome, max_file_bytes: u64) {
     }
 }
 
-/// Edit sets that can be tried together: the sets that edit only one rig's own file,
-/// per file, in runs of sets whose edits do not overlap; every other set (a shared
-/// catalog, several files) alone.
-fn batches(
-    groups: &[(Vec<PathEdit>, Vec<usize>)],
-    rig_paths: &HashSet<PathBuf>,
-) -> Vec<Vec<usize>> {
+/// Edit sets that can be tried together: the sets that edit only one file (a rig's own
+/// file or a catalog), per file, in runs of sets whose edits do not overlap; a set that
+/// edits several files alone.
+fn batches(groups: &[(Vec<PathEdit>, Vec<usize>)]) -> Vec<Vec<usize>> {
     let mut out: Vec<Vec<usize>> = Vec::new();
     let mut by_rig: BTreeMap<&PathBuf, Vec<Vec<usize>>> = BTreeMap::new();
     for (g, (key, _)) in groups.iter().enumerate() {
         let path = &key[0].path;
-        if !rig_paths.contains(path) || key.iter().any(|e| &e.path != path) {
+        if key.iter().any(|e| &e.path != path) {
             out.push(vec![g]);
             continue;
         }
@@ -235,6 +232,10 @@ fn batches(
     out.extend(by_rig.into_values().flatten());
     out
 }
+
+/// What [`VerifyCtx::check`] found: the findings whose fix stays, and the edited run
+/// with its offset map when a shared catalog was edited.
+type Checked = (Vec<usize>, Option<(Outcome, Shift)>);
 
 /// Rigs outside the run that include an edited catalog, and their findings before the
 /// edit (identity, file, offset).
@@ -351,22 +352,19 @@ impl<'a> VerifyCtx<'a> {
             .flat_map(|&g| groups[g].1.iter().copied())
             .collect();
         match self.check(&key, &idxs) {
-            Some(v) => members
+            Some((keep, after)) => members
                 .iter()
                 .map(|&g| {
+                    let reach = after
+                        .as_ref()
+                        .map(|(out, shift)| reach(out, &groups[g].0, shift));
                     let keep = groups[g]
                         .1
                         .iter()
                         .copied()
-                        .filter(|i| v.keep.contains(i))
+                        .filter(|i| keep.contains(i))
                         .collect();
-                    (
-                        g,
-                        Verdict {
-                            keep,
-                            reach: v.reach,
-                        },
-                    )
+                    (g, Verdict { keep, reach })
                 })
                 .collect(),
             None if members.len() == 1 => vec![(
@@ -389,9 +387,10 @@ impl<'a> VerifyCtx<'a> {
     }
 
     /// Apply `key`, lint the rigs it reaches, and say which of the findings `idxs` are
-    /// gone; `None` when the edits add a finding at `warning` or above (or cannot be
-    /// tried).
-    fn check(&self, key: &[PathEdit], idxs: &[usize]) -> Option<Verdict> {
+    /// gone (with the edited run when a shared catalog was edited, to count what each
+    /// edit reaches); `None` when the edits add a finding at `warning` or above (or
+    /// cannot be tried).
+    fn check(&self, key: &[PathEdit], idxs: &[usize]) -> Option<Checked> {
         let reject = None;
         // The edited texts.
         let mut overlay = self.base_overlay();
@@ -490,8 +489,8 @@ impl<'a> VerifyCtx<'a> {
                 ))
             })
             .collect();
-        let reach = (!catalogs.is_empty()).then(|| reach(&after, key, &shift));
-        Some(Verdict { keep, reach })
+        let edited_run = (!catalogs.is_empty()).then_some((after, shift));
+        Some((keep, edited_run))
     }
 }
 
