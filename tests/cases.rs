@@ -75,6 +75,13 @@ fn every_case_matches_its_expected_findings() {
             .collect();
         actual.push_str(&format!("exit {code}\n"));
         let human = human_report(&root, &rel);
+        let opening = common::opening_positions(&human);
+        let primary = common::json_positions(&report);
+        if opening != primary {
+            failures.push(format!(
+                "{rel}: findings do not open with their primary position\n human: {opening:?}\n json:  {primary:?}"
+            ));
+        }
         for (ext, actual) in [(".expected", actual), (".human", human)] {
             let expected_path = PathBuf::from(case.to_string_lossy().replace(".rig.yaml", ext));
             if update {

@@ -330,6 +330,78 @@ fn join_excerpts(rendered: &str, files: &[&str]) -> String {
     out
 }
 
+/// Words for wrapping message and help lines: split at spaces, except between a number
+/// and its unit (`1.6 kHz`, `80 dB`), so a quantity never breaks across two lines.
+fn keep_quantities_whole(line: &str) -> Box<dyn Iterator<Item = textwrap::core::Word<'_>> + '_> {
+    // Chunks of a word and the spaces after it.
+    let mut chunks: Vec<(usize, usize)> = Vec::new();
+    let mut start = 0;
+    let bytes = line.as_bytes();
+    let mut i = 0;
+    while i < bytes.len() {
+        if bytes[i] == b' ' {
+            while i < bytes.len() && bytes[i] == b' ' {
+                i += 1;
+            }
+            chunks.push((start, i));
+            start = i;
+        } else {
+            i += 1;
+        }
+    }
+    if start < bytes.len() {
+        chunks.push((start, bytes.len()));
+    }
+    let is_unit = |w: &str| {
+        let core = w.trim_end().trim_end_matches([',', ';', ')', '.', ':']);
+        matches!(
+            core,
+            "Hz" | "kHz"
+                | "MHz"
+                | "GHz"
+                | "dB"
+                | "deg"
+                | "s"
+                | "ms"
+                | "us"
+                | "µs"
+                | "ns"
+                | "min"
+                | "h"
+                | "d"
+                | "B"
+                | "kB"
+                | "MB"
+                | "GB"
+                | "TB"
+                | "B/s"
+                | "kB/s"
+                | "MB/s"
+                | "GB/s"
+                | "bits"
+        )
+    };
+    let mut merged: Vec<(usize, usize)> = Vec::new();
+    for (a, b) in chunks {
+        match merged.last_mut() {
+            Some(last)
+                if line[last.0..last.1]
+                    .trim_end()
+                    .ends_with(|c: char| c.is_ascii_digit())
+                    && is_unit(&line[a..b]) =>
+            {
+                last.1 = b;
+            }
+            _ => merged.push((a, b)),
+        }
+    }
+    Box::new(
+        merged
+            .into_iter()
+            .map(move |(a, b)| textwrap::core::Word::from(&line[a..b])),
+    )
+}
+
 /// Render one finding.
 pub fn render_finding(sources: &Sources, f: &Finding, color: Color) -> String {
     let theme = match color {
@@ -338,7 +410,10 @@ pub fn render_finding(sources: &Sources, f: &Finding, color: Color) -> String {
     };
     let handler = GraphicalReportHandler::new_themed(theme)
         .with_width(100)
-        .with_context_lines(1);
+        .with_context_lines(1)
+        .with_word_separator(textwrap::WordSeparator::Custom(keep_quantities_whole))
+        .with_word_splitter(textwrap::WordSplitter::NoHyphenation)
+        .with_break_words(false);
     let mut out = String::new();
     let report = build(sources, f);
     if handler.render_report(&mut out, &report).is_err() {
@@ -388,4 +463,27 @@ pub fn render(
     }
     out.push_str(&summary(findings, files, channels, elapsed));
     out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn quantities_stay_on_one_line_when_a_message_wraps() {
+        let text = "energy at 1.4 kHz folds into the 200 Hz band at decimation stage 1 (1.6 kHz) with 0.00 dB of attenuation, 80.00 dB needed";
+        for width in 20..80 {
+            let opts = textwrap::Options::new(width)
+                .word_separator(textwrap::WordSeparator::Custom(keep_quantities_whole));
+            for line in textwrap::wrap(text, opts) {
+                let line = line.trim();
+                for unit in ["kHz", "Hz", "dB"] {
+                    assert!(
+                        !line.starts_with(unit) && !line.starts_with(&format!("{unit})")),
+                        "width {width}: a line starts with its unit: {line:?}"
+                    );
+                }
+            }
+        }
+    }
 }

@@ -212,3 +212,51 @@ pub fn output_schema() -> jsonschema::Validator {
         serde_json::from_str(foldcheck::report::json::OUTPUT_SCHEMA).expect("the schema is JSON");
     jsonschema::draft202012::new(&schema).expect("a valid 2020-12 schema")
 }
+
+/// The position each finding of a human report opens with: the `file:line:col` in the
+/// first line after the message (miette's `╭─[file:line:col]`), in report order.
+#[allow(dead_code)]
+pub fn opening_positions(human: &str) -> Vec<String> {
+    let lines: Vec<&str> = human.lines().collect();
+    let mut out = Vec::new();
+    let mut i = 0;
+    while i < lines.len() {
+        let l = lines[i];
+        let starts_message = ["  × ", "  ⚠ ", "  ☞ "].iter().any(|m| l.starts_with(m));
+        if starts_message {
+            let mut j = i + 1;
+            while j < lines.len() && lines[j].starts_with("  │ ") {
+                j += 1;
+            }
+            let next = lines.get(j).map_or("", |l| l.trim());
+            out.push(
+                next.strip_prefix("╭─[")
+                    .and_then(|s| s.strip_suffix(']'))
+                    .unwrap_or(next)
+                    .to_string(),
+            );
+            i = j;
+        }
+        i += 1;
+    }
+    out
+}
+
+/// `file:line:column` of each unsuppressed finding of a JSON report, in report order.
+#[allow(dead_code)]
+pub fn json_positions(report: &Value) -> Vec<String> {
+    report["findings"]
+        .as_array()
+        .expect("findings")
+        .iter()
+        .filter(|f| f.get("suppressed").is_none())
+        .map(|f| {
+            format!(
+                "{}:{}:{}",
+                f["file"].as_str().unwrap(),
+                f["line"],
+                f["column"]
+            )
+        })
+        .collect()
+}
