@@ -67,8 +67,9 @@ pub fn run(command: Command) -> Outcome {
             let code = u8::from(Counts::of(&out.findings).reaches(severity(fail_on)));
             Ok((text, code))
         }
+        // The protocol's exit status: 0 after `shutdown` then `exit`, 1 after `exit` alone.
         Command::Lsp => foldcheck::lsp::run_stdio()
-            .map(|()| (String::new(), 0))
+            .map(|clean| (String::new(), u8::from(!clean)))
             .map_err(|e| format!("foldcheck lsp: {e}")),
         Command::Fix {
             paths,

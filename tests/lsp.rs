@@ -346,6 +346,15 @@ fn utf8_is_used_when_the_client_offers_it() {
 }
 
 #[test]
+fn exit_without_shutdown_is_status_1() {
+    // The protocol: the server exits with 0 after `shutdown`, with 1 without it.
+    let dir = tempfile::tempdir().unwrap();
+    let mut c = LspClient::start(dir.path());
+    initialize(&mut c, json!({}));
+    assert_eq!(c.exit_now().code(), Some(1));
+}
+
+#[test]
 fn a_changed_catalog_republishes_the_rigs_that_include_it() {
     let (dir, rig, cat) = setup();
     let mut c = LspClient::start(dir.path());

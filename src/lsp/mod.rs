@@ -37,18 +37,21 @@ pub const DEBOUNCE: Duration = Duration::from_millis(150);
 /// user's reason.
 pub const REASON_PLACEHOLDER: &str = "TODO: say why this is acceptable";
 
-/// Serve the protocol on stdin and stdout until the client says `exit`. `Err` is a
-/// protocol failure (the exit status is then 1).
-pub fn run_stdio() -> Result<(), String> {
+/// Serve the protocol on stdin and stdout until the client says `exit`. `Ok(true)` when
+/// the client asked to shut down first, `Ok(false)` when it said `exit` (or closed the
+/// connection) without (the protocol's exit status is then 1); `Err` is a protocol
+/// failure.
+pub fn run_stdio() -> Result<bool, String> {
     let (connection, io) = Connection::stdio();
     let result = serve(&connection);
     drop(connection);
     let joined = io.join().map_err(|e| e.to_string());
-    result.and(joined)
+    joined.and(result)
 }
 
-/// Serve the protocol on a connection: initialize, then the main loop.
-pub fn serve(connection: &Connection) -> Result<(), String> {
+/// Serve the protocol on a connection: initialize, then the main loop. `Ok(true)` after
+/// `shutdown` and `exit`, `Ok(false)` after `exit` alone or a closed connection.
+pub fn serve(connection: &Connection) -> Result<bool, String> {
     let (id, params) = connection.initialize_start().map_err(|e| e.to_string())?;
     let offered: Vec<String> = params
         .pointer("/capabilities/general/positionEncodings")
@@ -118,7 +121,7 @@ struct Server<'c> {
 type Failure = (i32, String);
 
 impl Server<'_> {
-    fn main_loop(&mut self) -> Result<(), String> {
+    fn main_loop(&mut self) -> Result<bool, String> {
         loop {
             let next = self.pending.values().min().copied();
             let msg = match next {
@@ -127,12 +130,12 @@ impl Server<'_> {
                     match self.conn.receiver.recv_timeout(wait) {
                         Ok(m) => Some(m),
                         Err(crossbeam_timeout) if crossbeam_timeout.is_timeout() => None,
-                        Err(_) => return Ok(()),
+                        Err(_) => return Ok(false),
                     }
                 }
                 None => match self.conn.receiver.recv() {
                     Ok(m) => Some(m),
-                    Err(_) => return Ok(()),
+                    Err(_) => return Ok(false),
                 },
             };
             let Some(msg) = msg else {
@@ -151,7 +154,7 @@ impl Server<'_> {
             match msg {
                 Message::Request(req) => {
                     if self.conn.handle_shutdown(&req).map_err(|e| e.to_string())? {
-                        return Ok(());
+                        return Ok(true);
                     }
                     let id = req.id.clone();
                     let resp = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
@@ -171,7 +174,7 @@ impl Server<'_> {
                 }
                 Message::Notification(n) => {
                     if n.method == "exit" {
-                        return Ok(());
+                        return Ok(false);
                     }
                     let _ = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
                         self.notification(n)
@@ -599,7 +602,10 @@ impl Server<'_> {
             if suppressible(f.rule) && seen.insert((f.rule, f.primary.span.start)) {
                 let text = &doc.text;
                 let at = f.primary.span.start as usize;
-                let line_start = text[..at.min(text.len())].rfind('\n').map_or(0, |p| p + 1);
+                let line_start = text.as_bytes()[..at.min(text.len())]
+                    .iter()
+                    .rposition(|&b| b == b'\n')
+                    .map_or(0, |p| p + 1);
                 let line = &text[line_start..];
                 let indent = line.len() - line.trim_start_matches(' ').len();
                 let new_text = format!(

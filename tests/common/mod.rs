@@ -189,6 +189,13 @@ impl LspClient {
         }
     }
 
+    /// `exit` without `shutdown`; the exit status of the server.
+    pub fn exit_now(mut self) -> std::process::ExitStatus {
+        self.notify("exit", Value::Null);
+        drop(self.stdin.take());
+        self.child.wait().expect("the server exits")
+    }
+
     /// `shutdown` then `exit`; the exit status of the server.
     pub fn shutdown(mut self) -> std::process::ExitStatus {
         let r = self.request("shutdown", Value::Null);
