@@ -156,8 +156,9 @@ fn a_session_from_initialize_to_exit() {
             "contentChanges": [{ "range": range(9, k16, 9, k16 + 1), "text": "K" }]
         }),
     );
+    let introduced = c.diagnostics(&rig);
     assert_eq!(
-        c.diagnostics(&rig),
+        introduced,
         json!([{
             "range": range(9, k16 - 3, 9, k16 + 3),
             "severity": 1,
@@ -167,12 +168,37 @@ fn a_session_from_initialize_to_exit() {
         }])
     );
 
-    // A change that removes it again.
+    // Its code actions: the verified fix as a quick fix (the edit replaces the unit
+    // only), and no "suppress" (an input rule cannot be suppressed).
+    let bad = RIG.replace("bandwidth: 20 kHz", "bandwidth: 20 KHz");
+    let diags = introduced.clone();
+    let actions = c.request(
+        "textDocument/codeAction",
+        json!({ "textDocument": { "uri": rig }, "range": range(9, k16, 9, k16),
+                "context": { "diagnostics": diags } }),
+    );
+    assert_eq!(
+        actions["result"],
+        json!([{
+            "title": "write the unit `KHz` as `kHz`",
+            "kind": "quickfix",
+            "diagnostics": diags,
+            "edit": { "changes": { rig.clone(): [{ "range": range(9, k16, 9, k16 + 3), "newText": "kHz" }] } },
+            "isPreferred": true
+        }])
+    );
+
+    // Applying its edit is the change that removes the finding again.
+    let edits = actions["result"][0]["edit"]["changes"][&rig]
+        .as_array()
+        .unwrap();
+    let fixed = apply_edits(&bad, edits);
+    assert_eq!(fixed, RIG);
     c.notify(
         "textDocument/didChange",
         json!({
             "textDocument": { "uri": rig, "version": 3 },
-            "contentChanges": [{ "range": range(9, k16, 9, k16 + 1), "text": "k" }]
+            "contentChanges": [{ "range": edits[0]["range"], "text": edits[0]["newText"] }]
         }),
     );
     assert_eq!(c.diagnostics(&rig), json!([]));
