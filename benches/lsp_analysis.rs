@@ -17,7 +17,7 @@
 
 use foldcheck::campaign::{self, Options, Overlay};
 use foldcheck::lsp::snapshot;
-use std::io::{BufRead, BufReader, Read as _, Write};
+use std::io::{BufRead, BufReader, Write};
 use std::path::PathBuf;
 use std::process::{Command, Stdio};
 use std::sync::Arc;
