@@ -75,3 +75,103 @@ fn no_shipped_file_cites_the_outside_specification() {
         "cite the project's docs instead (docs/format.md, docs/model.md, docs/output.md, README): {hits:?}"
     );
 }
+
+/// The fenced blocks of a Markdown file with the given info string, in order.
+fn blocks(md: &str, lang: &str) -> Vec<String> {
+    let open = format!("```{lang}\n");
+    let mut out = Vec::new();
+    let mut rest = md;
+    while let Some(i) = rest.find(&open) {
+        let body = &rest[i + open.len()..];
+        let end = body.find("```").expect("a closed block");
+        out.push(body[..end].to_string());
+        rest = &body[end..];
+    }
+    out
+}
+
+fn format_md() -> String {
+    std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("docs/format.md"))
+        .expect("docs/format.md")
+}
+
+/// Every key the rig schema and the settings schema know, recursively.
+fn schema_keys(v: &serde_json::Value, out: &mut std::collections::BTreeSet<String>) {
+    match v {
+        serde_json::Value::Object(m) => {
+            if let Some(serde_json::Value::Object(props)) = m.get("properties") {
+                out.extend(props.keys().cloned());
+            }
+            m.values().for_each(|x| schema_keys(x, out));
+        }
+        serde_json::Value::Array(a) => a.iter().for_each(|x| schema_keys(x, out)),
+        _ => {}
+    }
+}
+
+#[test]
+fn docs_format_names_every_key_of_both_schemas() {
+    let md = format_md();
+    let mut keys = std::collections::BTreeSet::new();
+    for schema in [
+        foldcheck::model::schema::RIG_SCHEMA,
+        foldcheck::settings::SETTINGS_SCHEMA,
+    ] {
+        schema_keys(&serde_json::from_str(schema).unwrap(), &mut keys);
+    }
+    assert!(
+        keys.len() > 40,
+        "the schemas were read ({} keys)",
+        keys.len()
+    );
+    let missing: Vec<&String> = keys
+        .iter()
+        .filter(|k| !md.contains(&format!("`{k}`")) && !md.contains(&format!("`[{k}]`")))
+        .collect();
+    assert!(missing.is_empty(), "docs/format.md lacks {missing:?}");
+}
+
+#[test]
+fn the_complete_example_of_docs_format_is_clean_of_input_findings() {
+    let md = format_md();
+    let yaml = blocks(&md, "yaml");
+    let rig = &yaml[0];
+    let catalog = yaml
+        .iter()
+        .find(|b| b.contains("catalog: quillmoor-hall"))
+        .expect("the catalog example");
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::create_dir_all(dir.path().join("rigs")).unwrap();
+    std::fs::create_dir_all(dir.path().join("catalog")).unwrap();
+    std::fs::write(dir.path().join("foldcheck.toml"), "").unwrap();
+    std::fs::write(dir.path().join("rigs/bay2.rig.yaml"), rig).unwrap();
+    std::fs::write(dir.path().join("catalog/quillmoor-hall.yaml"), catalog).unwrap();
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_foldcheck"))
+        .args(["check", "--format", "json", "rigs/bay2.rig.yaml"])
+        .current_dir(dir.path())
+        .output()
+        .unwrap();
+    let report: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(report["files"], 1);
+    assert_eq!(report["channels"], 3);
+    let input = [
+        "yaml-syntax",
+        "schema",
+        "quantity",
+        "duplicate-name",
+        "unknown-reference",
+        "include",
+        "clock-cycle",
+        "missing-band",
+    ];
+    let bad: Vec<&serde_json::Value> = report["findings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|f| input.contains(&f["rule"].as_str().unwrap()))
+        .collect();
+    assert!(bad.is_empty(), "{bad:#?}");
+    // The settings example loads.
+    let toml = &blocks(&md, "toml")[0];
+    foldcheck::settings::parse(Path::new("foldcheck.toml"), toml).expect("valid settings");
+}
