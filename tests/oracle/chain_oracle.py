@@ -17,7 +17,19 @@ channel, and recomputes independently:
   averages evaluated with scipy.signal.freqz at the stage's input rate (E. Hogenauer,
   IEEE Trans. ASSP 29, 1981, from memory).
 
-Usage: chain_oracle.py PATH/TO/foldcheck [--channels N] [--seed S]
+Groups (docs/model.md §5): seeded random pairs on one root clock, ending at one rate, one
+member sampled directly and the other faster and decimated through a sinc stage (delay
+N·(M − 1)/2 input samples, Hogenauer 1981, from memory) or a `digital` filter with a
+`delay-samples`, each with its own analog filters. For each pair the script recomputes,
+from scipy.signal's analog prototypes (`output='zpk'`, `freqs_zpk`, phase unwrapped
+from DC on a dense grid of the common band):
+- Δφ(f) = φ_a(f) − φ_b(f) with φ = unwrapped analog phase − 360°·f·(digital delays),
+  and checks that foldcheck's `phase_difference_deg` equals Δφ at its `frequency_hz`
+  (0.01 deg) and is not smaller than the largest |Δφ| on the grid (less 0.01 deg);
+- the latency difference `delay_difference_s`: digital delays plus the analog group
+  delay at DC, Σ −Re(p)/|p|² over scipy's poles (1e-12 s).
+
+Usage: chain_oracle.py PATH/TO/foldcheck [--channels N] [--groups G] [--seed S]
 Exits 1 on any mismatch (0.01 dB, 0.1 deg, exact rates).
 """
 import argparse
@@ -125,14 +137,137 @@ def rig_text(channels):
     return "\n".join(lines) + "\n"
 
 
+def zpk(kind, order, cutoff, ripple):
+    wc = 2 * math.pi * cutoff
+    if kind == "butterworth":
+        return signal.butter(order, wc, analog=True, output="zpk")
+    if kind == "chebyshev":
+        return signal.cheby1(order, ripple, wc, analog=True, output="zpk")
+    return signal.bessel(order, wc, analog=True, norm="mag", output="zpk")
+
+
+def unwrapped_phase_deg(filters, f_grid):
+    """Unwrapped analog phase (deg) of a chain on a grid that starts at DC."""
+    total = np.zeros_like(f_grid)
+    for flt in filters:
+        z, p, k = zpk(*flt)
+        _, h = signal.freqs_zpk(z, p, k, worN=2 * math.pi * f_grid)
+        total += np.degrees(np.unwrap(np.angle(h)))
+    return total
+
+
+def dc_group_delay_s(filters):
+    total = 0.0
+    for flt in filters:
+        z, p, _ = zpk(*flt)
+        # τ(0) = Σ_poles −Re(p)/|p|² − Σ_zeros (same); these prototypes have no zeros.
+        total += float(np.sum(-p.real / np.abs(p) ** 2))
+        if len(z):
+            total -= float(np.sum(-z.real / np.abs(z) ** 2))
+    return total
+
+
+def random_filters(rng, band, n):
+    out = []
+    for _ in range(n):
+        kind = rng.choice(["butterworth", "chebyshev", "bessel"])
+        order = rng.randint(2, 8)
+        cutoff = round(band * rng.uniform(1.2, 3.0), 3)
+        ripple = rng.choice([0.1, 0.5]) if kind == "chebyshev" else None
+        out.append((kind, order, cutoff, ripple))
+    return out
+
+
+def make_pair(rng, i):
+    fs = Fraction(rng.choice([3200, 6400, 12800, 25600]))
+    band = round(float(fs) / rng.uniform(3.0, 8.0), 3)
+    m = rng.randint(2, 8)
+    if rng.random() < 0.5:
+        stage = ("sinc", rng.randint(1, 5), None)
+    else:
+        stage = ("digital", None, round(rng.uniform(0.0, 40.0), 2))
+    return dict(name=f"g{i:03d}", fs=fs, band=band, m=m, stage=stage,
+                a=random_filters(rng, band, rng.randint(1, 2)),
+                b=random_filters(rng, band, rng.randint(1, 2)))
+
+
+def pair_rig(pairs):
+    lines = ["format: 1", "rig: oracle-groups", "clocks:"]
+    for g in pairs:
+        lines.append(f"  - {{ name: {g['name']}-fast, frequency: {g['fs'] * g['m']} Hz }}")
+        lines.append(f"  - {{ name: {g['name']}-slow, source: {g['name']}-fast, divide: {g['m']} }}")
+    lines.append("channels:")
+    for g in pairs:
+        fa = ", ".join(yaml_filter(*f) for f in g["a"])
+        fb = ", ".join(yaml_filter(*f) for f in g["b"])
+        kind, order, samples = g["stage"]
+        if kind == "sinc":
+            flt = f"{{ response: sinc, order: {order} }}"
+        else:
+            flt = ("{ response: digital, passband-edge: 0.45, stopband-edge: 0.5, "
+                   f"attenuation: 120 dB, delay-samples: {samples} }}")
+        lines.append(f"  - {{ name: {g['name']}-a, clock: {g['name']}-slow, band: {g['band']} Hz, filters: [{fa}] }}")
+        lines.append(f"  - {{ name: {g['name']}-b, clock: {g['name']}-fast, band: {g['band']} Hz, filters: [{fb}], "
+                     f"decimate: [{{ factor: {g['m']}, filter: {flt} }}] }}")
+    lines.append("groups:")
+    for g in pairs:
+        lines.append(f"  - {{ name: {g['name']}, channels: [{g['name']}-b, {g['name']}-a], phase-tolerance: 0.001 deg }}")
+    return "\n".join(lines) + "\n"
+
+
+def check_groups(binary, pairs, tmp, failures):
+    path = os.path.join(tmp, "groups.rig.yaml")
+    with open(path, "w") as f:
+        f.write(pair_rig(pairs))
+    out = subprocess.run([binary, "check", path, "--format", "json"],
+                         capture_output=True, text=True, check=False)
+    report = json.loads(out.stdout)
+    found = {}
+    for x in report["findings"]:
+        if x["rule"] == "group-phase":
+            found[x["message"].split("`")[1]] = x["values"]
+    checked = 0
+    for g in pairs:
+        v = found.get(g["name"])
+        if v is None:
+            failures.append(f"group {g['name']}: no group-phase finding at a 0.001 deg tolerance")
+            continue
+        fs_fast = float(g["fs"] * g["m"])
+        kind, order, samples = g["stage"]
+        # Digital delay of member b: a sinc delays N(M-1)/2 input samples; a digital
+        # filter its delay-samples of the stage's output rate.
+        delay_b = order * (g["m"] - 1) / 2 / fs_fast if kind == "sinc" else samples / float(g["fs"])
+        grid = np.linspace(0.0, g["band"], 20001)
+        phi_a = unwrapped_phase_deg(g["a"], grid)
+        phi_b = unwrapped_phase_deg(g["b"], grid) - 360.0 * grid * delay_b
+        dphi = phi_a - phi_b
+        f_got = v["frequency_hz"]
+        want_at = float((unwrapped_phase_deg(g["a"], np.linspace(0, f_got, 4001))[-1])
+                        - (unwrapped_phase_deg(g["b"], np.linspace(0, f_got, 4001))[-1] - 360.0 * f_got * delay_b))
+        got = v["phase_difference_deg"]
+        if abs(got - want_at) > 0.01:
+            failures.append(f"group {g['name']}: Δφ at {f_got} Hz: foldcheck {got}, scipy {want_at}")
+        if abs(got) < np.max(np.abs(dphi)) - 0.01:
+            failures.append(f"group {g['name']}: foldcheck's max |Δφ| {abs(got)} below scipy's {np.max(np.abs(dphi))}")
+        if not 0.0 < f_got <= g["band"] * (1 + 1e-12):
+            failures.append(f"group {g['name']}: frequency {f_got} outside (0, {g['band']}]")
+        want_delay = dc_group_delay_s(g["a"]) - (dc_group_delay_s(g["b"]) + delay_b)
+        if abs(v["delay_difference_s"] - want_delay) > 1e-12 + 1e-9 * abs(want_delay):
+            failures.append(f"group {g['name']}: delay difference {v['delay_difference_s']} vs {want_delay}")
+        checked += 1
+    return checked
+
+
 def main():
     ap = argparse.ArgumentParser()
     ap.add_argument("binary")
     ap.add_argument("--channels", type=int, default=60)
+    ap.add_argument("--groups", type=int, default=30)
     ap.add_argument("--seed", type=int, default=20261201)
     args = ap.parse_args()
     rng = random.Random(args.seed)
     channels = [make_channel(rng, i) for i in range(args.channels)]
+    pairs = [make_pair(rng, i) for i in range(args.groups)]
     failures = []
     counts = {"adc alias": 0, "stage alias": 0}
     with tempfile.TemporaryDirectory() as tmp:
@@ -191,6 +326,8 @@ def main():
                     failures.append(f"{c['name']}: stage 1 nyquist verdict at fs1/B = {fs1 / band}")
             check("attenuation at B (dB)", pb["attenuation_db"], want_pb, 0.01)
             check("phase at B (deg)", r["analysis"]["phase_at_band_deg"], phase_deg(chain, band), 0.1)
+        groups_checked = check_groups(args.binary, pairs, tmp, failures)
+    print(f"{groups_checked} group pairs checked (phase over the common band with digital delays, latency difference)")
     print(f"{len(channels)} channels checked against scipy {__import__('scipy').__version__} "
           f"({counts['adc alias']} ADC folds, {counts['stage alias']} decimation-stage folds): "
           f"{len(failures)} mismatches")
