@@ -313,7 +313,9 @@ pub fn finite(x: f64) -> f64 {
     } else if x.is_infinite() {
         ATTENUATION_CEILING_DB.copysign(x)
     } else {
-        x
+        // Adding +0 turns a negative zero into zero (docs/model.md §6) and changes
+        // nothing else.
+        x + 0.0
     }
 }
 
@@ -346,6 +348,7 @@ mod tests {
     fn infinite_attenuation_stays_valid_json() {
         assert_eq!(finite(f64::INFINITY), ATTENUATION_CEILING_DB);
         assert_eq!(finite(12.5), 12.5);
+        assert!(finite(-0.0).is_sign_positive(), "no negative zero in JSON");
         assert_eq!(finite(1e6), 1e6);
         assert_eq!(format_db(f64::INFINITY), "> 300 dB");
         assert_eq!(format_db(11.974), "11.97 dB");

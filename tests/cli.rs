@@ -367,6 +367,7 @@ fn the_example_campaign_shows_each_documented_mistake() {
         ("alias-rejection", "race-acc-270"),
         ("nyquist", "hub-acc"),
         ("module-rate", "arm-c-force"),
+        ("modulator-unknown", "act-b-force"),
     ] {
         assert!(
             found.contains(&(rule.to_string(), channel.to_string())),
@@ -376,6 +377,19 @@ fn the_example_campaign_shows_each_documented_mistake() {
     for rule in ["group-phase", "group-clock", "unused-clock", "storage"] {
         assert!(found.iter().any(|(r, _)| r == rule), "missing {rule}");
     }
+    // The delta-sigma card's two decimation paths (examples/README.md, P5): 40.78 deg.
+    let torque = report["findings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|f| {
+            f["rule"] == "group-phase" && f["message"].as_str().unwrap().contains("torque-compare")
+        })
+        .expect("group-phase on torque-compare");
+    let deg = torque["values"]["phase_difference_deg"].as_f64().unwrap();
+    // 360° × 200 Hz × (4 / 3.2 kHz − 17.5 / 25.6 kHz), closed form.
+    let want = -360.0 * 200.0 * (4.0 / 3200.0 - 17.5 / 25600.0);
+    assert!((deg - want).abs() < 1e-3, "{deg} vs {want}");
 }
 
 #[test]
