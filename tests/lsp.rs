@@ -203,7 +203,10 @@ fn a_session_from_initialize_to_exit() {
     );
     assert_eq!(c.diagnostics(&rig), json!([]));
 
-    // Hover on the channel's name: rates through the clock path, ratio, attenuation.
+    // Hover on the channel's name: rates through the clock path, ratio, attenuation,
+    // latency. The latency of an n-th order Butterworth at DC is 1/(ωc·sin(π/2n)) (the
+    // group delay at DC from its poles on the circle of radius ωc, a textbook closed
+    // form): 1/(2π·24 kHz·sin(π/16)) = 33.9917 µs.
     let h = c.request(
         "textDocument/hover",
         json!({ "textDocument": { "uri": rig }, "position": pos(11, 12) }),
@@ -213,12 +216,15 @@ fn a_session_from_initialize_to_exit() {
         "**channel `mic-left`**\n\n\
          clock: `osc` 24.576 MHz → ÷ 256 `frame-96k` 96 kHz\n\n\
          band: 20 kHz (the channel's `band`)\n\n\
-         | rate change | rate | ratio | fs − B | attenuation | required |\n\
+         | rate change | rate | ratio | folds from | attenuation | required |\n\
          |---|---|---|---|---|---|\n\
          | ADC | 96 kHz | 4.8 | 76 kHz | 80.10 dB | 40 dB ✓ |\n\n\
          worst alias attenuation: 80.10 dB at ADC (from 76 kHz), 40 dB required\n\n\
-         final rate 96 kHz, ratio 4.8; droop at the band edge 0.23 dB (tolerance 0.50 dB)\n"
+         final rate 96 kHz, ratio 4.8; droop at the band edge 0.23 dB (tolerance 0.50 dB)\n\n\
+         latency 33.9917 µs (digital delays and the analog group delay at DC)\n"
     );
+    let expected = 1.0 / (2.0 * std::f64::consts::PI * 24e3 * (std::f64::consts::PI / 16.0).sin());
+    assert!((expected * 1e6 - 33.9917).abs() < 5e-5, "{expected}");
 
     // Go to definition: `osc` in the rig is defined in the catalog.
     let d = c.request(

@@ -1,13 +1,15 @@
-//! Hover texts (Markdown): what the analysis says about the thing under the cursor. The
-//! numbers come from `inspect`'s view of the run (the same rates, attenuations and
-//! verdicts `foldcheck inspect` prints); this module only lays them out.
+//! Hover texts (Markdown): what the analysis says about the thing under the cursor.
+//! Channels, bands, filters and decimation stages read the channel's one analysis
+//! (`crate::analysis::analyse_channel`: rates, ratios, attenuation, verdicts) and its
+//! chain's latency; nothing here decides a verdict, this module only lays them out.
 
 use super::snapshot::{Snapshot, SymbolKind, Target};
-use crate::analysis::Enabled;
-use crate::inspect::{self, Inspection, StageInfo, db_text, rate_text};
-use crate::model::quantity::{format_hz, sig6, to_f64};
+use crate::analysis::{self, ChannelAnalysis, Context, Enabled, StageInfo};
+use crate::inspect::{db_text, rate_text};
+use crate::model::quantity::{format_hz, format_seconds, sig6, to_f64};
 use crate::model::{ClockDef, Filter};
-use crate::resolve::{Rig, ThresholdSettings};
+use crate::resolve::Rig;
+use crate::resolve::chain::Chain;
 use crate::source::Span;
 
 /// The Markdown for a target, if there is anything to say.
@@ -72,45 +74,40 @@ fn shared_filter(rig: &Rig, span: Span) -> Option<&Filter> {
     module.chain(sensor).find(|f| f.span == span)
 }
 
-fn inspection(snap: &Snapshot, ri: usize, ci: usize) -> Option<Inspection> {
-    let rig = snap.rig(ri)?;
-    Some(inspect::inspect(
-        rig,
-        ci,
-        &snap.outcome.sources,
-        &snap.outcome.findings,
-        &(None, ThresholdSettings::default(), Enabled::ALL),
-    ))
+/// The channel's analysis with every rate rule computed (a hover shows the numbers even
+/// for a rule the settings turn off) and without the fix search.
+fn analysis_of(rig: &Rig, ci: usize) -> ChannelAnalysis {
+    analysis::analyse_channel(rig, ci, &Context::new(Enabled::ALL).with_fixes(false))
 }
 
-fn clock_path_text(ins: &Inspection) -> Option<String> {
-    let c = ins.clock.as_ref()?;
-    if !c.found {
-        return Some(format!("clock `{}` is not defined", c.name));
-    }
-    let steps: Vec<String> = c
-        .path
+/// The clock path from the root to `k`: "`osc` 24.576 MHz → ÷ 256 `frame` 96 kHz".
+fn clock_path_text(rig: &Rig, k: usize) -> String {
+    rig.clock_path(k)
         .iter()
-        .map(|s| {
-            let rate = s
+        .map(|&i| {
+            let rc = &rig.clocks[i];
+            let how = match &rc.def.def {
+                ClockDef::Derived {
+                    divide, multiply, ..
+                } => {
+                    let m = multiply.as_ref().map_or(1, |m| m.value);
+                    let d = divide.as_ref().map_or(1, |d| d.value);
+                    if m == 1 {
+                        format!("÷ {d} ")
+                    } else {
+                        format!("× {m} ÷ {d} ")
+                    }
+                }
+                _ => String::new(),
+            };
+            let rate = rc
                 .rate
                 .as_ref()
                 .map_or_else(|| "rate unknown".to_string(), rate_text);
-            let how = match (s.divide, s.multiply) {
-                (None, None) => String::new(),
-                (d, m) => {
-                    let mut t = String::new();
-                    if let Some(m) = m.filter(|&m| m != 1) {
-                        t.push_str(&format!("× {m} "));
-                    }
-                    t.push_str(&format!("÷ {} ", d.unwrap_or(1)));
-                    t
-                }
-            };
-            format!("{how}`{}` {rate}", s.name)
+            format!("{how}`{}` {rate}", rc.def.name.value)
         })
-        .collect();
-    Some(steps.join(" → "))
+        .collect::<Vec<_>>()
+        .join(" → ")
 }
 
 fn stage_row(s: &StageInfo) -> String {
@@ -135,28 +132,39 @@ fn stage_row(s: &StageInfo) -> String {
     )
 }
 
-/// A channel: its clock path, band, and every rate change (`stage`: one of them, 1-based
-/// decimation stage, highlighted).
+/// A channel: its clock path, band, every rate change (`stage`: only that decimation
+/// stage, 1-based), the worst fold, the failing verdicts and the latency.
 fn channel(snap: &Snapshot, ri: usize, ci: usize, stage: Option<usize>) -> String {
-    let Some(ins) = inspection(snap, ri, ci) else {
+    let Some(rig) = snap.rig(ri) else {
         return String::new();
     };
+    let ch = &rig.channels[ci];
+    let name = &ch.def.name.value;
     let mut out = match stage {
-        Some(k) => format!("**decimation stage {k}** of channel `{}`\n\n", ins.channel),
-        None => format!("**channel `{}`**\n\n", ins.channel),
+        Some(k) => format!("**decimation stage {k}** of channel `{name}`\n\n"),
+        None => format!("**channel `{name}`**\n\n"),
     };
-    if let Some(p) = clock_path_text(&ins) {
-        out.push_str(&format!("clock: {p}\n\n"));
+    match (ch.clock, &ch.def.clock) {
+        (Some(k), _) => out.push_str(&format!("clock: {}\n\n", clock_path_text(rig, k))),
+        (None, Some(c)) => out.push_str(&format!("clock: `{}` is not defined\n\n", c.value)),
+        (None, None) => {}
     }
-    if let Some(b) = &ins.band {
-        out.push_str(&format!("band: {} ({})\n\n", format_hz(b.value), b.what));
+    if let Some(b) = &ch.band {
+        let from = if b.from_sensor {
+            "the sensor's `bandwidth`"
+        } else {
+            "the channel's `band`"
+        };
+        out.push_str(&format!("band: {} ({from})\n\n", format_hz(to_f64(&b.hz))));
     }
-    let Some(a) = &ins.analysis else {
-        if let Some(why) = &ins.no_analysis {
-            out.push_str(why);
+    let ca = analysis_of(rig, ci);
+    let a = match &ca.rates {
+        Ok(a) => a,
+        Err(why) => {
+            out.push_str(why.reason());
             out.push('\n');
+            return out;
         }
-        return out;
     };
     if let Some(k) = stage
         && let Some(s) = a.stages.iter().find(|s| s.stage == k)
@@ -172,7 +180,7 @@ fn channel(snap: &Snapshot, ri: usize, ci: usize, stage: Option<usize>) -> Strin
                 .unwrap_or_else(|| ", no filter (plain down-sampling)".to_string())
         ));
     }
-    out.push_str("| rate change | rate | ratio | fs − B | attenuation | required |\n");
+    out.push_str("| rate change | rate | ratio | folds from | attenuation | required |\n");
     out.push_str("|---|---|---|---|---|---|\n");
     for s in &a.stages {
         if stage.is_none_or(|k| k == s.stage) {
@@ -180,33 +188,54 @@ fn channel(snap: &Snapshot, ri: usize, ci: usize, stage: Option<usize>) -> Strin
             out.push('\n');
         }
     }
-    if stage.is_none() {
-        let worst = a
+    if stage.is_some() {
+        return out;
+    }
+    if let Some(w) = a.worst_fold() {
+        let what = match w.resonance {
+            Some((f, g)) => format!("the {} resonance (+{})", format_hz(f), db_text(g)),
+            None => format_hz(w.fold_from_hz),
+        };
+        let title = a
             .stages
             .iter()
-            .filter_map(|s| s.alias.as_ref().map(|al| (s, al)))
-            .min_by(|x, y| x.1.attenuation_db.total_cmp(&y.1.attenuation_db));
-        if let Some((s, al)) = worst {
-            out.push_str(&format!(
-                "\nworst alias attenuation: {} at {} (from {}), {} required\n",
-                db_text(al.attenuation_db),
-                s.title(),
-                format_hz(al.fold_from_hz),
-                db_text(al.required_db)
-            ));
-        }
-        let droop = a.passband.as_ref().map_or_else(String::new, |p| {
-            format!(
-                "; droop at the band edge {} (tolerance {})",
-                db_text(p.attenuation_db),
-                db_text(p.tolerance_db)
-            )
-        });
+            .find(|s| s.stage == w.stage)
+            .map_or_else(String::new, StageInfo::title);
         out.push_str(&format!(
-            "\nfinal rate {}, ratio {}{droop}\n",
-            format_hz(a.final_rate_hz),
-            sig6(a.final_ratio),
+            "\nworst alias attenuation: {} at {title} (from {what}), {} required\n",
+            db_text(w.attenuation_db),
+            db_text(w.required_db)
         ));
+    }
+    let droop = a.passband.as_ref().map_or_else(String::new, |p| {
+        format!(
+            "; droop at the band edge {} (tolerance {})",
+            db_text(p.attenuation_db),
+            db_text(p.tolerance_db)
+        )
+    });
+    out.push_str(&format!(
+        "\nfinal rate {}, ratio {}{droop}\n",
+        format_hz(a.final_rate_hz),
+        sig6(a.final_ratio),
+    ));
+    if let Some(chain) = Chain::new(rig, ch) {
+        out.push_str(&format!(
+            "\nlatency {} (digital delays and the analog group delay at DC)\n",
+            format_seconds(chain.latency_s())
+        ));
+    }
+    let failing: Vec<String> = ca
+        .verdicts()
+        .into_iter()
+        .filter(|v| !v.pass)
+        .map(|v| match &v.about {
+            Some(about) => format!("`{}` ({about})", v.rule),
+            None => format!("`{}`", v.rule),
+        })
+        .collect();
+    if !failing.is_empty() {
+        out.push_str(&format!("\nfails: {}\n", failing.join(", ")));
     }
     out
 }
@@ -219,34 +248,8 @@ fn clock(rig: &Rig, name: &str) -> Option<String> {
         .as_ref()
         .map_or_else(|| "rate unknown".to_string(), rate_text);
     let mut out = format!("**clock `{name}`**: {rate}\n\n");
-    let path = rig.clock_path(k);
-    if path.len() > 1 {
-        let steps: Vec<String> = path
-            .iter()
-            .map(|&i| {
-                let rc = &rig.clocks[i];
-                let how = match &rc.def.def {
-                    ClockDef::Derived {
-                        divide, multiply, ..
-                    } => {
-                        let m = multiply.as_ref().map_or(1, |m| m.value);
-                        let d = divide.as_ref().map_or(1, |d| d.value);
-                        if m == 1 {
-                            format!("÷ {d} ")
-                        } else {
-                            format!("× {m} ÷ {d} ")
-                        }
-                    }
-                    _ => String::new(),
-                };
-                format!(
-                    "{how}`{}` {}",
-                    rc.def.name.value,
-                    rc.rate.as_ref().map_or_else(|| "?".to_string(), rate_text)
-                )
-            })
-            .collect();
-        out.push_str(&format!("path: {}\n\n", steps.join(" → ")));
+    if rig.clock_path(k).len() > 1 {
+        out.push_str(&format!("path: {}\n\n", clock_path_text(rig, k)));
     }
     let n = rig.fanout.get(k).copied().unwrap_or(0);
     out.push_str(&format!(
@@ -327,22 +330,26 @@ fn group(snap: &Snapshot, ri: usize, name: &str) -> Option<String> {
 }
 
 /// A filter: what it is, and for a channel using it, its share of the attenuation at each
-/// rate change's folding frequency.
+/// rate change's folding frequency and at the band edge.
 fn filter(snap: &Snapshot, ri: usize, ci: Option<usize>, f: &Filter) -> String {
     let d = f.response.describe();
     let mut out = format!("**{d}**\n\n");
-    let Some(ins) = ci.and_then(|ci| inspection(snap, ri, ci)) else {
+    let (Some(rig), Some(ci)) = (snap.rig(ri), ci) else {
         return out;
     };
-    let Some(a) = &ins.analysis else {
+    let ca = analysis_of(rig, ci);
+    let Ok(a) = &ca.rates else {
         return out;
     };
-    out.push_str(&format!("in channel `{}`:\n\n", ins.channel));
+    out.push_str(&format!(
+        "in channel `{}`:\n\n",
+        rig.channels[ci].def.name.value
+    ));
     for s in &a.stages {
         let Some(al) = &s.alias else { continue };
         if let Some((_, db)) = al.contributions.iter().find(|(w, _)| w.ends_with(&d)) {
             out.push_str(&format!(
-                "- at {} ({}, fs − B): {} of the chain's {} ({} required)\n",
+                "- at {} ({}): {} of the chain's {} ({} required)\n",
                 format_hz(al.fold_from_hz),
                 s.title(),
                 db_text(*db),
