@@ -399,20 +399,20 @@ fn a_catalog_fix_needs_include_catalogs_and_says_what_it_reaches() {
     assert_eq!(f["rule"], "quantity", "{report}");
     assert_eq!(
         f["fix"]["description"],
-        "write the unit `KHz` as `kHz` (in a shared catalog: reaches 3 channels in 2 rigs)"
+        "write the unit `KHz` as `kHz` (in a shared catalog: reaches 3 channels in 2 rigs: `east`, `west`)"
     );
     // The second clock's fix, verified in the same run of both rigs, counts its own.
     let g = &report["findings"][1];
     assert_eq!(g["line"], 8, "{report}");
     assert_eq!(
         g["fix"]["description"],
-        "write the unit `KHz` as `kHz` (in a shared catalog: reaches 1 channel in 1 rig)"
+        "write the unit `KHz` as `kHz` (in a shared catalog: reaches 1 channel in 1 rig: `west`)"
     );
     // Without --include-catalogs: not applied, and said so.
     let out = common::run_in(tmp.path(), &["fix", "--color", "never", "east.rig.yaml"]);
     let stdout = String::from_utf8_lossy(&out.stdout);
     assert!(
-        stdout.contains("not fixed (edits a shared catalog; pass --include-catalogs): catalog/hall.yaml:6:16 quantity: write the unit `KHz` as `kHz` (in a shared catalog: reaches 3 channels in 2 rigs)"),
+        stdout.contains("not fixed (edits a shared catalog; pass --include-catalogs): catalog/hall.yaml:6:16 quantity: write the unit `KHz` as `kHz` (in a shared catalog: reaches 3 channels in 2 rigs: `east`, `west`)"),
         "{stdout}"
     );
     assert_eq!(out.status.code(), Some(1));

@@ -155,8 +155,9 @@ fn identity(sources: &Sources, f: &Finding, shift: Option<&Shift>) -> Identity {
 struct Verdict {
     /// Findings (indexes into the outcome) whose fix stays.
     keep: Vec<usize>,
-    /// For an edit to a shared catalog: channels and rigs it reaches.
-    reach: Option<(usize, usize)>,
+    /// For an edit to a shared catalog: how many channels it reaches, and in which
+    /// rigs (their names, sorted).
+    reach: Option<(usize, Vec<String>)>,
 }
 
 /// Verify every proposed fix of `out` (see the module documentation): fixes that work
@@ -190,13 +191,22 @@ pub fn verify(out: &mut Outcome, max_file_bytes: u64) {
         for &i in &groups[g].1 {
             if !v.keep.contains(&i) {
                 out.findings[i].drop_fix();
-            } else if let (Some((channels, rigs)), Some(fix)) = (v.reach, &mut out.findings[i].fix)
+            } else if let (Some((channels, rigs)), Some(fix)) =
+                (v.reach.as_ref(), &mut out.findings[i].fix)
             {
+                const NAMED: usize = 5;
+                let mut names: Vec<String> =
+                    rigs.iter().take(NAMED).map(|r| format!("`{r}`")).collect();
+                if rigs.len() > NAMED {
+                    names.push(format!("{} more", rigs.len() - NAMED));
+                }
                 fix.description = format!(
-                    "{} (in a shared catalog: reaches {channels} channel{} in {rigs} rig{})",
+                    "{} (in a shared catalog: reaches {channels} channel{} in {} rig{}: {})",
                     fix.description,
-                    if channels == 1 { "" } else { "s" },
-                    if rigs == 1 { "" } else { "s" },
+                    if *channels == 1 { "" } else { "s" },
+                    rigs.len(),
+                    if rigs.len() == 1 { "" } else { "s" },
+                    names.join(", "),
                 );
             }
         }
@@ -496,7 +506,7 @@ impl<'a> VerifyCtx<'a> {
 
 /// Channels (and rigs) whose clock path, module or sensor is written where an edit
 /// lands, counted in the edited run.
-fn reach(after: &Outcome, key: &[PathEdit], shift: &Shift) -> (usize, usize) {
+fn reach(after: &Outcome, key: &[PathEdit], shift: &Shift) -> (usize, Vec<String>) {
     let spans: Vec<Span> = after
         .sources
         .iter()
@@ -510,7 +520,7 @@ fn reach(after: &Outcome, key: &[PathEdit], shift: &Shift) -> (usize, usize) {
         .collect();
     let hit = |item: Span| spans.iter().any(|s| item.contains(s));
     let mut channels = 0;
-    let mut rigs = 0;
+    let mut rigs = Vec::new();
     for r in &after.rigs {
         let Some(rig) = &r.rig else { continue };
         let n = rig
@@ -520,9 +530,13 @@ fn reach(after: &Outcome, key: &[PathEdit], shift: &Shift) -> (usize, usize) {
             .count();
         if n > 0 {
             channels += n;
-            rigs += 1;
+            rigs.push(match &rig.name {
+                Some(name) => name.value.clone(),
+                None => after.sources.get(r.file).display.clone(),
+            });
         }
     }
+    rigs.sort();
     (channels, rigs)
 }
 
