@@ -132,6 +132,10 @@ struct Loaded {
     doc: Option<Document>,
     findings: Vec<Finding>,
     suppressions: Vec<Suppression>,
+    /// `rig:<name>` or `catalog:<name>` when the file names itself (for fingerprints).
+    named: Option<String>,
+    /// The campaign root it was first linted under (for fingerprints).
+    root: PathBuf,
 }
 
 /// A catalog once loaded, or why it could not be read.
@@ -338,6 +342,13 @@ fn finish(ctx: Ctx, results: Vec<RigResult>, files: usize, jobs: Vec<Job>) -> Ou
     let mut channels = 0;
     let mut rigs = Vec::new();
     let mut file_settings: HashMap<FileId, Arc<Settings>> = HashMap::new();
+    let mut infos = Vec::new();
+    let info = |l: &Loaded, path: PathBuf| crate::fingerprint::FileInfo {
+        file: l.file,
+        named: l.named.clone(),
+        root: l.root.clone(),
+        path,
+    };
     for r in results {
         let RigResult {
             loaded,
@@ -349,8 +360,24 @@ fn finish(ctx: Ctx, results: Vec<RigResult>, files: usize, jobs: Vec<Job>) -> Ou
             job,
         } = r;
         file_settings.insert(loaded.file, settings);
+        let rig_file = loaded.file;
+        infos.push(info(
+            &loaded,
+            ctx.sources
+                .lock()
+                .expect("no thread panicked")
+                .get(rig_file)
+                .path
+                .clone(),
+        ));
         findings.extend(loaded.findings);
-        findings.extend(f);
+        // What a rig raises about a catalog's parts is the rig's (fingerprint owner).
+        findings.extend(f.into_iter().map(|mut f| {
+            if f.primary.span.file != rig_file {
+                f.owner_file = Some(rig_file);
+            }
+            f
+        }));
         suppressions.extend(loaded.suppressions);
         channels += n;
         rigs.push(RigOutcome {
@@ -364,6 +391,14 @@ fn finish(ctx: Ctx, results: Vec<RigResult>, files: usize, jobs: Vec<Job>) -> Ou
     let catalogs = ctx.catalogs.into_inner().expect("no thread panicked");
     for cell in catalogs.values() {
         if let Some(Ok(c)) = cell.get() {
+            let path = ctx
+                .sources
+                .lock()
+                .expect("no thread panicked")
+                .get(c.file)
+                .path
+                .clone();
+            infos.push(info(c, path));
             findings.extend(c.findings.iter().cloned());
             suppressions.extend(c.suppressions.iter().cloned());
         }
@@ -389,6 +424,8 @@ fn finish(ctx: Ctx, results: Vec<RigResult>, files: usize, jobs: Vec<Job>) -> Ou
     suppress::apply(&mut suppressions, &mut findings, &mut extra);
     findings.extend(extra);
     sort(&sources, &mut findings);
+    let owners = crate::fingerprint::Owners::new(&infos);
+    crate::fingerprint::assign(&mut findings, &owners, &sources);
     rigs.sort_by(|a, b| {
         sources
             .get(a.file)
@@ -830,6 +867,8 @@ fn load(ctx: &Ctx, path: &Path, display: String, role: Role) -> Result<Loaded, S
             doc: None,
             findings: vec![f],
             suppressions: Vec::new(),
+            named: None,
+            root: PathBuf::new(),
         });
     }
     Ok(load_added(ctx, file, role))
@@ -874,11 +913,20 @@ fn load_text(file: FileId, text: &str, lines: &LineIndex, role: Role) -> Loaded 
         findings.extend(quantity);
         doc
     });
+    let named = doc.as_ref().and_then(|d| {
+        let kind = match d.role {
+            Role::Rig => "rig",
+            Role::Catalog => "catalog",
+        };
+        d.name.as_ref().map(|n| format!("{kind}:{}", n.value))
+    });
     Loaded {
         file,
         doc,
         findings,
         suppressions,
+        named,
+        root: PathBuf::new(),
     }
 }
 
@@ -903,6 +951,7 @@ fn lint_rig(ctx: &Ctx, job: &Job, keep: bool) -> Result<RigResult, Fatal> {
 /// Lint a loaded rig: includes, resolution and the rules.
 fn lint_loaded(ctx: &Ctx, job: &Job, keep: bool, mut loaded: Loaded) -> RigResult {
     let mut out = Vec::new();
+    loaded.root = job.root.clone();
     let result = |loaded, out, channels, rig, includes| RigResult {
         loaded,
         findings: out,
@@ -1096,8 +1145,12 @@ fn include_all(
             map.entry(real.clone()).or_default().clone()
         };
         let display = display(&normalize(&display_dir.join(&inc.value)));
-        let loaded =
-            cell.get_or_init(|| load(ctx, &real, display.clone(), Role::Catalog).map(Arc::new));
+        let loaded = cell.get_or_init(|| {
+            load(ctx, &real, display.clone(), Role::Catalog).map(|mut l| {
+                l.root = root.to_path_buf();
+                Arc::new(l)
+            })
+        });
         let loaded = match loaded {
             Ok(l) => l,
             Err(why) => {

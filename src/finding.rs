@@ -98,8 +98,12 @@ pub struct Finding {
     /// `group/<name>/pair/<a>/<b>`, `channels/<name>/filters/2/cutoff`, ...): with the
     /// rule and the owner it makes the finding's fingerprint (docs/output.md).
     pub subject: Option<String>,
-    /// The fingerprint (16 lowercase hex digits), set once the campaign is known.
+    /// The fingerprint (16 lowercase hex digits), set once the campaign is known
+    /// (`crate::fingerprint`).
     pub fingerprint: Option<String>,
+    /// The file whose owner owns this finding when that is not the file of its primary
+    /// span: the rig that raised a finding about something a catalog defines.
+    pub owner_file: Option<crate::source::FileId>,
     /// A machine-readable fix: present only once it has been verified (applying it
     /// removes this finding and adds nothing at warning or above).
     pub fix: Option<Fix>,
@@ -222,6 +226,7 @@ impl Finding {
             suppressed: None,
             subject: None,
             fingerprint: None,
+            owner_file: None,
             fix: None,
             help_without_fix: None,
         }

@@ -10,6 +10,7 @@ pub mod analysis;
 pub mod campaign;
 pub mod diff;
 pub mod finding;
+pub mod fingerprint;
 pub mod fix;
 pub mod inspect;
 pub mod lsp;

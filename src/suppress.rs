@@ -23,6 +23,10 @@ pub struct Suppression {
     pub reason: String,
     /// The node it covers (None: nothing starts on that line).
     pub covers: Option<Span>,
+    /// The key path of the node it covers (`channels/acc-1`), for the subject of the
+    /// findings about this comment (see `crate::fingerprint`); empty when it covers
+    /// nothing.
+    pub covers_path: String,
     /// Whether it suppressed something.
     pub used: bool,
 }
@@ -59,8 +63,9 @@ pub fn scan(
     if !text.contains(MARKER) {
         return (out, findings);
     }
-    // (line, span) of the nodes that start on a line, in document order.
-    let mut starts: Vec<(usize, Span)> = Vec::new();
+    // (line, span, the node's own span) of the nodes that start on a line, in document
+    // order.
+    let mut starts: Vec<(usize, Span, Span)> = Vec::new();
     if let Some(root) = root {
         collect(root, text, lines, &mut starts);
     }
@@ -71,6 +76,32 @@ pub fn scan(
         };
         let comment = Span::new(file, start, end);
         let rest = rest.trim();
+        let line_start = text[..start].rfind(['\n', '\r']).map_or(0, |i| i + 1);
+        let own_line = text[line_start..start]
+            .chars()
+            .all(|c| c.is_whitespace() || c == '\u{feff}');
+        let target_line = if own_line {
+            // The line of the first node that starts after the comment.
+            starts
+                .iter()
+                .filter(|(_, s, _)| s.start as usize >= end)
+                .min_by_key(|(_, s, _)| s.start)
+                .map(|(l, _, _)| *l)
+        } else {
+            Some(line_of(start))
+        };
+        let covered = target_line.and_then(|l| {
+            starts
+                .iter()
+                .filter(|(sl, _, _)| *sl == l)
+                .max_by_key(|(_, s, _)| s.len())
+                .map(|(_, s, own)| (*s, *own))
+        });
+        let covers = covered.map(|(s, _)| s);
+        let covers_path = match (covered, root) {
+            (Some((_, own)), Some(root)) => crate::fingerprint::key_path(root, own, text),
+            _ => String::new(),
+        };
         let Some(list) = rest.strip_prefix("allow") else {
             findings.push(
                 Finding::new(
@@ -79,6 +110,7 @@ pub fn scan(
                     Label::new(comment, "not a suppression"),
                     "a `foldcheck:` comment must read `foldcheck: allow <rule> -- <reason>`",
                 )
+                .with_subject(subject(&covers_path, &[]))
                 .with_help("write `# foldcheck: allow <rule>[, <rule>…] -- <reason>`"),
             );
             continue;
@@ -92,39 +124,25 @@ pub fn scan(
             .map(|s| s.trim().to_string())
             .filter(|s| !s.is_empty())
             .collect();
-        let line_start = text[..start].rfind(['\n', '\r']).map_or(0, |i| i + 1);
-        let own_line = text[line_start..start]
-            .chars()
-            .all(|c| c.is_whitespace() || c == '\u{feff}');
-        let target_line = if own_line {
-            // The line of the first node that starts after the comment.
-            starts
-                .iter()
-                .filter(|(_, s)| s.start as usize >= end)
-                .min_by_key(|(_, s)| s.start)
-                .map(|(l, _)| *l)
-        } else {
-            Some(line_of(start))
-        };
-        let covers = target_line.and_then(|l| {
-            starts
-                .iter()
-                .filter(|(sl, _)| *sl == l)
-                .max_by_key(|(_, s)| s.len())
-                .map(|(_, s)| *s)
-        });
         out.push(Suppression {
             comment,
             rules,
             reason: reason.to_string(),
             covers,
+            covers_path,
             used: false,
         });
     }
     (out, findings)
 }
 
-fn collect(node: &Node, text: &str, lines: &LineIndex, out: &mut Vec<(usize, Span)>) {
+/// The subject of a finding about a suppression comment: `suppression/<key path of the
+/// node it covers>/<rule>[,<rule>…]` (docs/output.md, "Fingerprints").
+fn subject(covers_path: &str, rules: &[String]) -> String {
+    format!("suppression/{covers_path}/{}", rules.join(","))
+}
+
+fn collect(node: &Node, text: &str, lines: &LineIndex, out: &mut Vec<(usize, Span, Span)>) {
     let line_of = |s: &Span| lines.line_col(text, s.start as usize).0;
     match &node.kind {
         NodeKind::Seq(items) => {
@@ -143,14 +161,14 @@ fn collect(node: &Node, text: &str, lines: &LineIndex, out: &mut Vec<(usize, Spa
                     start: start as u32,
                     ..item.span
                 };
-                out.push((line_of(&span), span));
+                out.push((line_of(&span), span, item.span));
                 collect(item, text, lines, out);
             }
         }
         NodeKind::Map(entries) => {
             for (k, v) in entries {
                 let span = k.span.join(&v.span);
-                out.push((line_of(&span), span));
+                out.push((line_of(&span), span, span));
                 collect(v, text, lines, out);
             }
         }
@@ -187,6 +205,7 @@ pub fn apply(sups: &mut [Suppression], findings: &mut [Finding], out: &mut Vec<F
                         }
                     ),
                 )
+                .with_subject(subject(&s.covers_path, &s.rules))
                 .with_help("fix the value instead: input rules say the file could not be read as a rig, so they are always errors"),
             );
             s.rules.retain(|r| !crate::finding::is_input_rule(r));
@@ -207,6 +226,7 @@ pub fn apply(sups: &mut [Suppression], findings: &mut [Finding], out: &mut Vec<F
                     Label::new(s.comment, "names no rule"),
                     "the suppression names no rule",
                 )
+                .with_subject(subject(&s.covers_path, &s.rules))
                 .with_help("write `# foldcheck: allow <rule> -- <reason>`"),
             );
             continue;
@@ -222,6 +242,7 @@ pub fn apply(sups: &mut [Suppression], findings: &mut [Finding], out: &mut Vec<F
                     Label::new(s.comment, "unknown rule"),
                     format!("the suppression names `{u}`, which is not a rule"),
                 )
+                .with_subject(subject(&s.covers_path, &s.rules))
                 .with_help(hint),
             );
             continue;
@@ -229,7 +250,8 @@ pub fn apply(sups: &mut [Suppression], findings: &mut [Finding], out: &mut Vec<F
         if s.reason.is_empty() {
             out.push(
                 Finding::new("suppression", Severity::Warning, Label::new(s.comment, "no reason"), "the suppression gives no reason")
-                    .with_help("add the reason after `--`, e.g. `-- reviewed with the test lead, band is nominal`"),
+                    .with_subject(subject(&s.covers_path, &s.rules))
+                .with_help("add the reason after `--`, e.g. `-- reviewed with the test lead, band is nominal`"),
             );
             continue;
         }
@@ -241,6 +263,7 @@ pub fn apply(sups: &mut [Suppression], findings: &mut [Finding], out: &mut Vec<F
                     Label::new(s.comment, "covers nothing"),
                     "the suppression covers no YAML node",
                 )
+                .with_subject(subject(&s.covers_path, &s.rules))
                 .with_help(
                     "put it on the line above the node, or at the end of the node's first line",
                 ),
@@ -272,6 +295,7 @@ pub fn apply(sups: &mut [Suppression], findings: &mut [Finding], out: &mut Vec<F
                     ),
                 )
                 .with_label(covers, "covers this")
+                .with_subject(subject(&s.covers_path, &s.rules))
                 .with_help("remove it: the finding it was for is gone"),
             );
         }

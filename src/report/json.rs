@@ -39,6 +39,9 @@ pub fn finding(sources: &Sources, f: &Finding) -> Value {
             json!({ "description": fix.description, "edits": fix_edits(sources, fix) }),
         );
     }
+    if let Some(fp) = &f.fingerprint {
+        o.insert("fingerprint".into(), json!(fp));
+    }
     Value::Object(o)
 }
 

@@ -126,6 +126,12 @@ fn result(sources: &Sources, f: &Finding) -> Value {
             .collect();
         o.insert("relatedLocations".into(), Value::Array(related));
     }
+    if let Some(fp) = &f.fingerprint {
+        o.insert(
+            "partialFingerprints".into(),
+            json!({ crate::fingerprint::SCHEME: fp }),
+        );
+    }
     if let Some(reason) = &f.suppressed {
         o.insert(
             "suppressions".into(),

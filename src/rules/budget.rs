@@ -5,6 +5,7 @@
 use super::{Rule, Stage};
 use crate::analysis::RigAnalysis;
 use crate::finding::{Finding, Severity};
+use crate::fingerprint::segment;
 use crate::model::quantity::{format_bytes, to_f64};
 use crate::resolve::Rig;
 use crate::resolve::chain::Chain;
@@ -103,6 +104,7 @@ fn check_throughput(a: &RigAnalysis, out: &mut Vec<Finding>) {
                 format_bytes(total, true),
                 format_bytes(limit.value, true)
             ))
+            .with_subject(format!("module/{}", segment(&m.name.value)))
             .with_help("lower the final rates (decimate), store fewer bits per sample, or spread the channels over more modules")
             .with_f64("data_rate_bytes_per_s", total)
             .with_f64("limit_bytes_per_s", limit.value);
@@ -125,6 +127,7 @@ fn check_throughput(a: &RigAnalysis, out: &mut Vec<Finding>) {
                         format_bytes(total, true),
                         format_bytes(limit.value, true)
                     ))
+                    .with_subject("logger")
                     .with_help("lower the final rates (decimate), store fewer bits per sample, or record on a faster logger")
                     .with_f64("data_rate_bytes_per_s", total)
                     .with_f64("limit_bytes_per_s", limit.value),
@@ -204,6 +207,7 @@ fn check_storage(a: &RigAnalysis, out: &mut Vec<Finding>) {
                 ),
             )
             .with_label(duration.span, "recording duration")
+            .with_subject("logger")
             .with_help(format!(
                 "record for at most {}, add storage, or lower the data rate",
                 crate::report::format_duration(storage.value / rate)

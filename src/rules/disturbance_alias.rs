@@ -4,6 +4,7 @@ use super::rates::{rate_channels, rate_labels, with_fix_or_help};
 use super::{Rule, Stage};
 use crate::analysis::RigAnalysis;
 use crate::finding::{Finding, Label, Severity, format_db, round_to};
+use crate::fingerprint::segment;
 use crate::model::quantity::{format_hz, sig6};
 
 /// `disturbance-alias`.
@@ -102,6 +103,11 @@ fn check(a: &RigAnalysis, out: &mut Vec<Finding>) {
                 ),
             )
             .with_channel(name)
+            .with_subject(format!(
+                "disturbance/{}/channel/{}",
+                segment(&d.name),
+                segment(name)
+            ))
             .with_label(freq.span, format!("tone at {}", format_hz(fd)));
         if let Some(l) = &def.level {
             f.secondary.push(Label::new(

@@ -3,6 +3,7 @@
 use super::{Rule, Stage};
 use crate::analysis::RigAnalysis;
 use crate::finding::{Finding, Severity, round_to};
+use crate::fingerprint::segment;
 use crate::model::quantity::{format_hz, format_seconds, sig6, to_f64};
 use crate::model::{Filter, Group, Response};
 use crate::resolve::Rig;
@@ -103,6 +104,7 @@ fn check_clock(a: &RigAnalysis, out: &mut Vec<Finding>) {
                         ref_span(first),
                         format!("on root clock `{}`", root_name(first)),
                     )
+                    .with_subject(format!("group/{}", segment(&g.name.value)))
                     .with_help("derive every member's clock from one root oscillator"),
             );
             continue;
@@ -124,6 +126,7 @@ fn check_clock(a: &RigAnalysis, out: &mut Vec<Finding>) {
                         ),
                     )
                     .with_label(ref_span(first), format!("ends at {}", rate(first)))
+                    .with_subject(format!("group/{}", segment(&g.name.value)))
                     .with_help("give every member the same clock divider and decimation"),
             );
         }
@@ -356,7 +359,12 @@ fn phase_finding(
     }
     finding
         .with_help(help)
-        .with_subject(format!("group/{}/pair/{an}/{bn}", g.name.value))
+        .with_subject(format!(
+            "group/{}/pair/{}/{}",
+            segment(&g.name.value),
+            segment(an),
+            segment(bn)
+        ))
         .with_f64(
             "phase_difference_deg",
             round_to(cmp.phase_difference_deg, 4) + 0.0,
@@ -592,7 +600,12 @@ fn incomplete_pair(
             ),
         )
         .with_help(help)
-        .with_subject(format!("group/{}/pair/{an}/{bn}/incomplete", g.name.value));
+        .with_subject(format!(
+            "group/{}/pair/{}/{}/incomplete",
+            segment(&g.name.value),
+            segment(an),
+            segment(bn)
+        ));
     for (s, l, _) in rest {
         f = f.with_label(*s, l.clone());
     }

@@ -5,6 +5,7 @@ use super::rates::{clock_labels, rate_channels};
 use super::{Rule, Stage};
 use crate::analysis::{ModuleLimit, RigAnalysis};
 use crate::finding::{Finding, Label, Severity, format_db, round_to};
+use crate::fingerprint::segment;
 use crate::model::quantity::{format_hz, sig6, to_f64};
 
 /// `module-rate`.
@@ -535,6 +536,7 @@ fn check_unused_clock(a: &RigAnalysis, out: &mut Vec<Finding>) {
                         c.def.name.value
                     ),
                 )
+                .with_subject(format!("clock/{}", segment(&c.def.name.value)))
                 .with_help("remove it, or point the channel that should use it at it"),
         );
     }
