@@ -108,6 +108,30 @@ fn apply_edits(text: &str, edits: &[Value]) -> String {
     out
 }
 
+/// Check and remove the fingerprint each diagnostic carries in `data` (16 lowercase hex
+/// digits, docs/output.md "Fingerprints"), so the rest compares structurally.
+fn strip_fp(mut diags: Value) -> Value {
+    for d in diags.as_array_mut().into_iter().flatten() {
+        let fp = d["data"]["fingerprint"]
+            .as_str()
+            .expect("every diagnostic carries its finding's fingerprint")
+            .to_string();
+        assert!(
+            fp.len() == 16
+                && fp
+                    .bytes()
+                    .all(|b| b.is_ascii_digit() || (b'a'..=b'f').contains(&b)),
+            "16 lowercase hex digits: {fp}"
+        );
+        let data = d["data"].as_object_mut().unwrap();
+        data.remove("fingerprint");
+        if data.is_empty() {
+            d.as_object_mut().unwrap().remove("data");
+        }
+    }
+    diags
+}
+
 #[test]
 fn a_session_from_initialize_to_exit() {
     let (dir, rig, cat) = setup();
@@ -135,7 +159,7 @@ fn a_session_from_initialize_to_exit() {
     // 24 kHz gives 10·log10(1 + (76/24)^16) = 80.10 dB at 76 kHz, the published
     // Butterworth magnitude, above the 40 dB default).
     open(&mut c, &rig, RIG);
-    assert_eq!(c.diagnostics(&rig), json!([]));
+    assert_eq!(strip_fp(c.diagnostics(&rig)), json!([]));
 
     // A change that introduces a finding, on the line with `ß`, `½` and an emoji before
     // the value: `kHz` → `KHz` (an incremental edit in UTF-16 units: the emoji is two).
@@ -158,7 +182,7 @@ fn a_session_from_initialize_to_exit() {
     );
     let introduced = c.diagnostics(&rig);
     assert_eq!(
-        introduced,
+        strip_fp(introduced.clone()),
         json!([{
             "range": range(9, k16 - 3, 9, k16 + 3),
             "severity": 1,
@@ -201,7 +225,7 @@ fn a_session_from_initialize_to_exit() {
             "contentChanges": [{ "range": edits[0]["range"], "text": edits[0]["newText"] }]
         }),
     );
-    assert_eq!(c.diagnostics(&rig), json!([]));
+    assert_eq!(strip_fp(c.diagnostics(&rig)), json!([]));
 
     // Hover on the channel's name: rates through the clock path, ratio, attenuation,
     // latency. The latency of an n-th order Butterworth at DC is 1/(ωc·sin(π/2n)) (the
@@ -302,7 +326,8 @@ fn a_session_from_initialize_to_exit() {
             "contentChanges": [{ "range": range(14, 10, 14, 12), "text": "4" }]
         }),
     );
-    let diags = c.diagnostics(&rig);
+    let raw = c.diagnostics(&rig);
+    let diags = strip_fp(raw.clone());
     assert_eq!(
         diags,
         json!([{
@@ -322,7 +347,7 @@ fn a_session_from_initialize_to_exit() {
     let actions = c.request(
         "textDocument/codeAction",
         json!({ "textDocument": { "uri": rig }, "range": range(13, 11, 13, 11),
-                "context": { "diagnostics": diags } }),
+                "context": { "diagnostics": raw } }),
     );
     let comment = "    # foldcheck: allow oversampling -- TODO: say why this is acceptable\n";
     assert_eq!(
@@ -330,7 +355,7 @@ fn a_session_from_initialize_to_exit() {
         json!([{
             "title": "Suppress `oversampling` here, with a reason",
             "kind": "quickfix",
-            "diagnostics": diags,
+            "diagnostics": raw,
             "edit": { "changes": { rig.clone(): [{ "range": range(13, 0, 13, 0), "newText": comment }] } }
         }])
     );
@@ -347,7 +372,7 @@ fn a_session_from_initialize_to_exit() {
         json!({ "textDocument": { "uri": rig, "version": 5 },
                 "contentChanges": [{ "text": edited }] }),
     );
-    assert_eq!(c.diagnostics(&rig), json!([]));
+    assert_eq!(strip_fp(c.diagnostics(&rig)), json!([]));
 
     // A request the server does not know gets an error response, not silence.
     let unknown = c.request("textDocument/prepareRename", json!({}));
@@ -369,7 +394,7 @@ fn utf8_is_used_when_the_client_offers_it() {
     );
     assert_eq!(init["result"]["capabilities"]["positionEncoding"], "utf-8");
     open(&mut c, &rig, &RIG.replace("20 kHz", "20 KHz"));
-    let diags = c.diagnostics(&rig);
+    let diags = strip_fp(c.diagnostics(&rig));
     // Byte columns: `20 KHz` starts at byte 70 of the emoji line (65 in UTF-16).
     let line = RIG.lines().nth(9).unwrap();
     assert_eq!(line.find("20 kHz"), Some(70));
@@ -392,11 +417,11 @@ fn a_changed_catalog_republishes_the_rigs_that_include_it() {
     let mut c = LspClient::start(dir.path());
     initialize(&mut c, json!({}));
     open(&mut c, &rig, RIG);
-    assert_eq!(c.diagnostics(&rig), json!([]));
+    assert_eq!(strip_fp(c.diagnostics(&rig)), json!([]));
     open(&mut c, &cat, CATALOG);
-    assert_eq!(c.diagnostics(&cat), json!([]));
+    assert_eq!(strip_fp(c.diagnostics(&cat)), json!([]));
     // Opening the catalog replaces the rig's view of it: the rig is published again.
-    assert_eq!(c.diagnostics(&rig), json!([]));
+    assert_eq!(strip_fp(c.diagnostics(&rig)), json!([]));
     // The oscillator at a tenth of its frequency: the rig's channel samples at 9.6 kHz,
     // not above twice its 20 kHz band.
     let slow = CATALOG.replace("24.576 MHz", "2.4576 MHz");
@@ -404,15 +429,15 @@ fn a_changed_catalog_republishes_the_rigs_that_include_it() {
         "textDocument/didSave",
         json!({ "textDocument": { "uri": cat } }),
     );
-    assert_eq!(c.diagnostics(&cat), json!([]));
-    assert_eq!(c.diagnostics(&rig), json!([]));
+    assert_eq!(strip_fp(c.diagnostics(&cat)), json!([]));
+    assert_eq!(strip_fp(c.diagnostics(&rig)), json!([]));
     c.notify(
         "textDocument/didChange",
         json!({ "textDocument": { "uri": cat, "version": 2 },
                 "contentChanges": [{ "text": slow }] }),
     );
-    assert_eq!(c.diagnostics(&cat), json!([]));
-    let d = c.diagnostics(&rig);
+    assert_eq!(strip_fp(c.diagnostics(&cat)), json!([]));
+    let d = strip_fp(c.diagnostics(&rig));
     let rules: Vec<&str> = d
         .as_array()
         .unwrap()
@@ -431,8 +456,8 @@ fn a_changed_catalog_republishes_the_rigs_that_include_it() {
         "textDocument/didClose",
         json!({ "textDocument": { "uri": cat } }),
     );
-    assert_eq!(c.diagnostics(&cat), json!([]));
-    assert_eq!(c.diagnostics(&rig), json!([]));
+    assert_eq!(strip_fp(c.diagnostics(&cat)), json!([]));
+    assert_eq!(strip_fp(c.diagnostics(&rig)), json!([]));
     assert!(c.shutdown().success());
 }
 
@@ -449,20 +474,20 @@ fn hostile_messages_get_answers_and_the_server_survives() {
         "channels: [ { name: a, clock: ".to_string(),
     ] {
         open(&mut c, &uri, &text);
-        let d = c.diagnostics(&uri);
+        let d = strip_fp(c.diagnostics(&uri));
         assert_eq!(d[0]["code"], "yaml-syntax", "{d}");
         c.notify(
             "textDocument/didClose",
             json!({ "textDocument": { "uri": uri } }),
         );
-        assert_eq!(c.diagnostics(&uri), json!([]));
+        assert_eq!(strip_fp(c.diagnostics(&uri)), json!([]));
     }
     // Bad parameters: an error response with the code for invalid parameters.
     let r = c.request("textDocument/hover", json!({ "position": "here" }));
     assert_eq!(r["error"]["code"], -32602, "{r}");
     // Positions far outside a document, and requests about documents never opened.
     open(&mut c, &uri, "format: 1\n");
-    c.diagnostics(&uri);
+    strip_fp(c.diagnostics(&uri));
     for method in [
         "textDocument/hover",
         "textDocument/definition",
@@ -485,7 +510,7 @@ fn hostile_messages_get_answers_and_the_server_survives() {
         json!({ "textDocument": { "uri": uri, "version": 2 },
                 "contentChanges": [{ "range": range(90, 0, 99, 9), "text": "rig: x\n" }] }),
     );
-    let d = c.diagnostics(&uri);
+    let d = strip_fp(c.diagnostics(&uri));
     assert!(
         d.as_array()
             .unwrap()
