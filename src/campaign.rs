@@ -951,7 +951,7 @@ fn lint_rig(ctx: &Ctx, job: &Job, keep: bool) -> Result<RigResult, Fatal> {
 /// Lint a loaded rig: includes, resolution and the rules.
 fn lint_loaded(ctx: &Ctx, job: &Job, keep: bool, mut loaded: Loaded) -> RigResult {
     let mut out = Vec::new();
-    loaded.root = job.root.clone();
+    loaded.root = job.root.dir.clone();
     let result = |loaded, out, channels, rig, includes| RigResult {
         loaded,
         findings: out,

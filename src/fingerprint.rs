@@ -60,32 +60,10 @@ pub fn fingerprint(
     digest[..8].iter().map(|b| format!("{b:02x}")).collect()
 }
 
-/// The top of the git work tree holding `dir`: the nearest directory at or above it
-/// that holds `.git` (a directory, or a file as in a linked work tree or submodule).
-/// No git process is run.
-pub fn git_top(dir: &Path) -> Option<PathBuf> {
-    let mut d = Some(dir);
-    while let Some(p) = d {
-        if p.join(".git").exists() {
-            return Some(p.to_path_buf());
-        }
-        d = p.parent();
-    }
-    None
-}
-
-/// Field 3: the campaign root relative to the top of the git work tree, `/`-separated;
-/// `.` when they are the same, when there is no git work tree, or when the root lies
-/// outside it.
+/// Field 3: the campaign root relative to the top of the git work tree (one function
+/// for it: [`crate::root::relative_to_git_top`]).
 pub fn root_field(root: &Path) -> String {
-    let root = std::fs::canonicalize(root).unwrap_or_else(|_| root.to_path_buf());
-    let Some(top) = git_top(&root) else {
-        return ".".to_string();
-    };
-    match root.strip_prefix(&top) {
-        Ok(rel) if !rel.as_os_str().is_empty() => rel_slash(rel),
-        _ => ".".to_string(),
-    }
+    crate::root::relative_to_git_top(root)
 }
 
 /// A relative path written with `/` between its components (a backslash inside a

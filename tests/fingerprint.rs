@@ -136,7 +136,7 @@ const PY_NYQUIST_BAY3_ACC1: &str = "f495e43de9ccb956";
 fn a_run_writes_the_fingerprint_python_hashlib_computes() {
     let dir = tempfile::tempdir().unwrap();
     assert!(
-        foldcheck::fingerprint::git_top(dir.path()).is_none(),
+        foldcheck::root::git_top(dir.path()).is_none(),
         "the temporary directory must lie outside any git work tree for this check"
     );
     write(
