@@ -144,10 +144,11 @@ pub enum Command {
     },
     /// Show one channel's chain: clock path, rates, attenuation and phase where it matters.
     Inspect {
-        /// The rig file.
+        /// The rig file, or a catalog (the rig that includes it and has the channel).
         file: PathBuf,
-        /// The channel's name.
-        channel: String,
+        /// The channel's name; without it, every channel with its final rate, band,
+        /// ratio and verdict.
+        channel: Option<String>,
         /// Draw the channel's spectrum to this SVG file.
         #[arg(long, value_name = "FILE.svg")]
         plot: Option<PathBuf>,

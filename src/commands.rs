@@ -246,7 +246,7 @@ pub fn run(command: Command) -> Outcome {
             settings,
         } => foldcheck::inspect::run(
             &file,
-            &channel,
+            channel.as_deref(),
             plot.as_deref(),
             format == crate::cli::InspectFormat::Json,
             settings,

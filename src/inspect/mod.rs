@@ -9,6 +9,7 @@
 //! run. The renderers ([`text`], [`json`], [`plot`]) only lay it out.
 
 pub mod json;
+pub mod list;
 pub mod plot;
 pub mod text;
 
@@ -27,7 +28,7 @@ use std::path::{Path, PathBuf};
 /// spectrum as SVG to that file. `Err` is a fatal message (exit status 2).
 pub fn run(
     file: &Path,
-    channel: &str,
+    channel: Option<&str>,
     plot: Option<&Path>,
     json: bool,
     settings: Option<PathBuf>,
@@ -47,12 +48,16 @@ pub fn run(
         ..Default::default()
     };
     let out = campaign::run(&[file.to_path_buf()], &opts).map_err(|e| e.to_string())?;
-    let Some(outcome) = out.rigs.first() else {
-        return Err(format!(
-            "{}: the settings file excludes this file, so there is nothing to inspect",
-            file.display()
-        ));
+    let Some(channel) = channel else {
+        if plot.is_some() {
+            return Err("--plot draws one channel: name it after the file".to_string());
+        }
+        return list::channels(&out, file, json);
     };
+    // A catalog: the rig that includes it and has this channel (README, "inspect").
+    let outcome = &out.rigs[list::pick_rig(&out, file, channel)?];
+    let rig_path = out.sources.get(outcome.file).path.clone();
+    let file = rig_path.as_path();
     let Some(rig) = &outcome.rig else {
         let sf = out.sources.get(outcome.file);
         let first = out
