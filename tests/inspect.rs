@@ -511,14 +511,17 @@ clocks:
 channels:
   - name: mic-left
     clock: frmae
-    band: 20 kHz
+    band: 10 kHz
+    filters: [{ response: digital, passband-edge: 0.45, stopband-edge: 0.55, attenuation: 100 dB }]
 ";
+    // Renamed to `frame`, the channel would be clean (48 kHz for a 10 kHz band, 100 dB
+    // from 26.4 kHz), so the help may propose the name: it is a verified fix.
     std::fs::write(dir.join("broken.rig.yaml"), rig).unwrap();
     let o = foldcheck(&dir, &["inspect", "broken.rig.yaml", "mic-left"]);
     assert_eq!(o.status.code(), Some(0), "stderr: {}", stderr(&o));
     let text = stdout(&o);
     assert!(text.contains("`frmae`, which is not defined"), "{text}");
-    assert!(text.contains("20 kHz, from the channel's `band`"), "{text}");
+    assert!(text.contains("10 kHz, from the channel's `band`"), "{text}");
     assert!(text.contains("the channel did not resolve"), "{text}");
     assert!(text.contains("unknown-reference"), "{text}");
     assert!(text.contains("did you mean `frame`?"), "{text}");
