@@ -9,7 +9,7 @@ use crate::resolve::{self, Rig, Unchecked};
 use crate::root::{CampaignRoot, RootKind};
 use crate::settings::{self, Level, Settings};
 use crate::source::yaml::{self, Node};
-use crate::source::{FileId, LineIndex, Sources, Span};
+use crate::source::{FileId, LineIndex, Sources, Span, escape_control};
 use crate::suppress::{self, Suppression};
 use rayon::prelude::*;
 use std::collections::HashMap;
@@ -75,8 +75,17 @@ pub enum Fatal {
 impl std::fmt::Display for Fatal {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         match self {
-            Fatal::NoSuchPath(p) => write!(f, "{}: no such file or directory", p.display()),
-            Fatal::Unreadable(p, why) => write!(f, "{}: {why}", p.display()),
+            Fatal::NoSuchPath(p) => write!(
+                f,
+                "{}: no such file or directory",
+                escape_control(&p.display().to_string())
+            ),
+            Fatal::Unreadable(p, why) => write!(
+                f,
+                "{}: {}",
+                escape_control(&p.display().to_string()),
+                escape_control(why)
+            ),
             Fatal::Settings(e) => write!(f, "{e}"),
         }
     }
@@ -744,7 +753,13 @@ fn excluded<'s>(s: &'s Settings, root: &Path, path: &Path) -> Option<&'s str> {
 
 /// The path as the user gave it, with `./` prefixes removed.
 fn display(p: &Path) -> String {
-    let s = p.to_string_lossy().replace('\\', "/");
+    // Only Windows separates directories with a backslash; elsewhere it is part of a name.
+    let s = p.to_string_lossy();
+    let s = if cfg!(windows) {
+        s.replace('\\', "/")
+    } else {
+        s.into_owned()
+    };
     s.strip_prefix("./").map(str::to_string).unwrap_or(s)
 }
 

@@ -566,3 +566,79 @@ fn duplicate_name_between_a_rig_and_its_catalog_is_filed_against_the_rig() {
         ]
     );
 }
+
+// ---- no terminal injection: control characters from the input are shown escaped
+
+#[cfg(unix)]
+#[test]
+fn control_characters_in_values_comments_and_file_names_are_escaped_in_every_format() {
+    // Regression: `clock: "\e]0;pwned\a\e[31mRED"` was printed raw in the
+    // `unknown-reference` message even with `--color never`; raw ESC bytes in a comment
+    // reached the source excerpt; file names were printed raw.
+    let tmp = tempfile::tempdir().unwrap();
+    let new = tmp.path().join("new");
+    std::fs::create_dir_all(&new).unwrap();
+    std::fs::create_dir_all(tmp.path().join("old")).unwrap();
+    let name = "bay\u{1b}[2Jx\u{9b}1m.rig.yaml";
+    std::fs::write(
+        new.join(name),
+        "format: 1\nrig: bay\nclocks:\n  - name: osc\n    frequency: 48 kHz\nchannels:\n  - name: ch\n    clock: \"\\e]0;pwned\\a\\e[31mRED\\x7f\"\n    band: 2 kHz\n",
+    )
+    .unwrap();
+    // YAML refuses a raw ESC even in a comment: a `yaml-syntax` finding whose excerpt
+    // shows the line.
+    std::fs::write(
+        new.join("comment.rig.yaml"),
+        "format: 1\nrig: comment\n# \u{1b}[31mred comment\u{7}\n",
+    )
+    .unwrap();
+    let shown_value = "\\u{1b}]0;pwned\\u{7}\\u{1b}[31mRED\\u{7f}";
+    let raw = |b: &[u8]| {
+        let text = String::from_utf8_lossy(b);
+        text.chars()
+            .find(|c| foldcheck::source::is_hidden_control(*c) && *c != '\r')
+    };
+    for args in [
+        vec!["check", "--color", "never", "new"],
+        vec!["check", "--format", "json", "new"],
+        vec!["check", "--format", "sarif", "new"],
+        vec!["diff", "old", "new"],
+        vec!["diff", "--format", "json", "old", "new"],
+        vec!["diff", "--format", "markdown", "old", "new"],
+    ] {
+        let out = common::run_in(tmp.path(), &args);
+        assert_eq!(
+            raw(&out.stdout),
+            None,
+            "{args:?} printed a raw control character"
+        );
+        assert_eq!(
+            raw(&out.stderr),
+            None,
+            "{args:?} printed a raw control character"
+        );
+        let text = String::from_utf8_lossy(&out.stdout);
+        let text = if args.contains(&"json") || args.contains(&"sarif") {
+            // JSON strings carry the backslash escaped.
+            text.replace("\\\\", "\\")
+        } else {
+            text.into_owned()
+        };
+        assert!(
+            text.contains(shown_value),
+            "{args:?} does not show the value escaped:\n{text}"
+        );
+    }
+    let human = common::run_in(tmp.path(), &["check", "--color", "never", "new"]);
+    let human = String::from_utf8_lossy(&human.stdout);
+    // The excerpt shows the comment escaped, and the header the file name.
+    assert!(
+        human.contains(" 3 │ # \\u{1b}[31mred comment\\u{7}"),
+        "{human}"
+    );
+    assert!(human.contains("comment.rig.yaml:3:3"), "{human}");
+    assert!(
+        human.contains("bay\\u{1b}[2Jx\\u{9b}1m.rig.yaml:8:12"),
+        "{human}"
+    );
+}

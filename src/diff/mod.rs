@@ -414,14 +414,14 @@ impl Side {
         relative(p, &self.base)
     }
 
-    /// The file as shown to the user.
+    /// The file as shown to the user (control characters escaped, as in every report).
     fn display(&self, file: FileId) -> String {
         if let Some((snapshot, top, cwd)) = &self.relocate
             && let Ok(rel) = self.path(file).strip_prefix(snapshot)
         {
-            return relative(&top.join(rel), cwd);
+            return crate::source::escape_control(&relative(&top.join(rel), cwd)).into_owned();
         }
-        self.out.sources.get(file).display.clone()
+        crate::source::escape_control(&self.out.sources.get(file).display).into_owned()
     }
 
     /// The YAML text of a span, comments and spacing normalised.

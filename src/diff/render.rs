@@ -5,6 +5,7 @@ use super::{Alias, ChannelChange, ClockChange, Diff, DiffFinding, Metrics, RigSt
 use crate::finding::{Severity, format_db, round_to};
 use crate::model::quantity::{Exact, format_hz, sig6, to_f64};
 use crate::report::plural;
+use crate::source::escape_control;
 use serde_json::{Map, Value, json};
 
 const NONE: &str = "—";
@@ -216,18 +217,18 @@ pub fn human(d: &Diff) -> String {
         for f in list {
             s.push_str(&format!(
                 "  {}:{}:{}  {}  {}  {}\n",
-                f.file,
+                escape_control(&f.file),
                 f.line,
                 f.column,
                 f.finding.severity.as_str(),
                 f.finding.rule,
-                f.finding.message
+                escape_control(&f.finding.message)
             ));
             if let Some(r) = &f.now_suppressed {
-                s.push_str(&format!("      now suppressed: {r}\n"));
+                s.push_str(&format!("      now suppressed: {}\n", escape_control(r)));
             }
             if with_help && let Some(h) = &f.finding.help {
-                s.push_str(&format!("      help: {h}\n"));
+                s.push_str(&format!("      help: {}\n", escape_control(h)));
             }
         }
     }
@@ -454,10 +455,10 @@ pub fn markdown(d: &Diff) -> String {
                 "- **{}** `{}` at `{}:{}:{}`: {}{suppressed}\n",
                 f.finding.severity.as_str(),
                 f.finding.rule,
-                f.file,
+                escape_control(&f.file),
                 f.line,
                 f.column,
-                f.finding.message.replace('\n', " ")
+                escape_control(&f.finding.message).replace('\n', " ")
             ));
         }
     }

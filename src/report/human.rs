@@ -2,7 +2,7 @@
 
 use super::{Counts, plural};
 use crate::finding::{Finding, Label, Severity};
-use crate::source::{SourceFile, Sources};
+use crate::source::{Excerpt, SourceFile, Sources, escape_control};
 use miette::{
     Diagnostic, GraphicalReportHandler, GraphicalTheme, LabeledSpan, MietteError,
     MietteSpanContents, SourceCode, SourceSpan, SpanContents,
@@ -28,6 +28,18 @@ struct Segment<'a> {
     end: usize,
     first_line: usize,
     vstart: usize,
+    /// The lines as shown, when they hold control characters (escaped, with the map
+    /// between offsets); `None`: shown as they are.
+    shown: Option<Excerpt>,
+}
+
+impl Segment<'_> {
+    /// The length of the lines as shown.
+    fn len(&self) -> usize {
+        self.shown
+            .as_ref()
+            .map_or(self.end - self.start, |e| e.text.len())
+    }
 }
 
 /// The text of a finding's excerpts as miette reads it. miette prints excerpts in the
@@ -45,7 +57,7 @@ const GAP: usize = 16;
 impl<'a> Excerpts<'a> {
     fn segment_at(&self, offset: usize, end: usize) -> Option<&Segment<'a>> {
         self.segments.iter().find(|s| {
-            let vend = s.vstart + (s.end - s.start);
+            let vend = s.vstart + s.len();
             s.vstart <= offset && end <= vend
         })
     }
@@ -62,7 +74,10 @@ impl SourceCode for Excerpts<'_> {
             .segment_at(span.offset(), span.offset() + span.len())
             .ok_or(MietteError::OutOfBounds)?;
         let text = seg.file.text.as_str();
-        let window = &text[seg.start..seg.end];
+        let window = match &seg.shown {
+            Some(e) => e.text.as_str(),
+            None => &text[seg.start..seg.end],
+        };
         let local = span.offset() - seg.vstart;
         let inner = window.read_span(
             &SourceSpan::new(local.into(), span.len()),
@@ -70,11 +85,15 @@ impl SourceCode for Excerpts<'_> {
             context_lines_after,
         )?;
         // Columns count characters (as JSON and SARIF do: docs/output.md), not bytes.
-        let at = seg.start + inner.span().offset();
-        let line_start = text[..at].rfind('\n').map_or(0, |i| i + 1);
+        let at = seg.start
+            + seg
+                .shown
+                .as_ref()
+                .map_or(inner.span().offset(), |e| e.original(inner.span().offset()));
+        let line_start = text[..at].rfind(['\n', '\r']).map_or(0, |i| i + 1);
         let column = text.get(line_start..at).map_or(0, |s| s.chars().count());
         Ok(Box::new(MietteSpanContents::new_named(
-            seg.file.display.clone(),
+            escape_control(&seg.file.display).into_owned(),
             inner.data(),
             SourceSpan::new(
                 (inner.span().offset() + seg.vstart).into(),
@@ -163,25 +182,33 @@ fn excerpts<'a>(sources: &'a Sources, f: &Finding) -> (Excerpts<'a>, Vec<Labeled
         } else {
             end
         };
+        let shown = Excerpt::of(&text[start..end]);
+        let at = |offset: usize| {
+            shown
+                .as_ref()
+                .map_or(offset - start, |x| x.escaped(offset - start))
+        };
         for p in placed {
             let s = (p.label.span.start as usize).clamp(start, end);
             let e = (p.label.span.end as usize).clamp(s, end);
-            let span = SourceSpan::new((s - start + vstart).into(), e - s);
-            let text = Some(p.label.text.clone());
+            let span = SourceSpan::new((at(s) + vstart).into(), at(e) - at(s));
+            let text = Some(escape_control(&p.label.text).into_owned());
             labels.push(if p.primary {
                 LabeledSpan::new_primary_with_span(text, span)
             } else {
                 LabeledSpan::new_with_span(text, span)
             });
         }
-        segments.push(Segment {
+        let segment = Segment {
             file,
             start,
             end,
             first_line: w0,
             vstart,
-        });
-        vstart += end - start + GAP;
+            shown,
+        };
+        vstart += segment.len() + GAP;
+        segments.push(segment);
     }
     (Excerpts { segments }, labels)
 }
@@ -236,10 +263,10 @@ impl Diagnostic for Report<'_> {
 fn build<'a>(sources: &'a Sources, f: &Finding) -> Report<'a> {
     let (source, labels) = excerpts(sources, f);
     Report {
-        message: f.message.clone(),
+        message: escape_control(&f.message).into_owned(),
         rule: f.rule,
         severity: f.severity,
-        help: f.help.clone(),
+        help: f.help.as_deref().map(|h| escape_control(h).into_owned()),
         source,
         labels,
     }
@@ -417,7 +444,7 @@ pub fn render_finding(sources: &Sources, f: &Finding, color: Color) -> String {
     let mut out = String::new();
     let report = build(sources, f);
     if handler.render_report(&mut out, &report).is_err() {
-        return format!("{}: {}\n", f.rule, f.message);
+        return format!("{}: {}\n", f.rule, escape_control(&f.message));
     }
     let files: Vec<&str> = report
         .source

@@ -2,7 +2,7 @@
 
 use super::Counts;
 use crate::finding::{Finding, Fix};
-use crate::source::Sources;
+use crate::source::{Sources, escape_control};
 use serde_json::{Map, Value, json};
 
 /// The JSON Schema of this report (`foldcheck schema --output`; docs/output.md).
@@ -16,27 +16,29 @@ pub fn finding(sources: &Sources, f: &Finding) -> Value {
     let mut o = Map::new();
     o.insert("rule".into(), json!(f.rule));
     o.insert("severity".into(), json!(f.severity.as_str()));
-    o.insert("file".into(), json!(file.display));
+    o.insert("file".into(), json!(escape_control(&file.display)));
     o.insert("line".into(), json!(line));
     o.insert("column".into(), json!(column));
     o.insert("end_line".into(), json!(end_line));
     o.insert("end_column".into(), json!(end_column));
     // Always present: null when the finding concerns no single channel.
     o.insert("channel".into(), json!(f.channel));
-    o.insert("message".into(), json!(f.message));
+    // Text from the input is shown escaped (README, "Limits"); the JSON encoding would
+    // escape a control character too, but a reader printing the message would not.
+    o.insert("message".into(), json!(escape_control(&f.message)));
     if let Some(h) = &f.help {
-        o.insert("help".into(), json!(h));
+        o.insert("help".into(), json!(escape_control(h)));
     }
     if !f.values.is_empty() {
         o.insert("values".into(), Value::Object(f.values.clone()));
     }
     if let Some(reason) = &f.suppressed {
-        o.insert("suppressed".into(), json!(reason));
+        o.insert("suppressed".into(), json!(escape_control(reason)));
     }
     if let Some(fix) = &f.fix {
         o.insert(
             "fix".into(),
-            json!({ "description": fix.description, "edits": fix_edits(sources, fix) }),
+            json!({ "description": escape_control(&fix.description), "edits": fix_edits(sources, fix) }),
         );
     }
     if let Some(fp) = &f.fingerprint {
@@ -63,7 +65,7 @@ pub fn fix_edits(sources: &Sources, fix: &Fix) -> Vec<Value> {
             let (line, column) = file.line_col(e.span.start);
             let (end_line, end_column) = file.line_col(e.span.end);
             json!({
-                "file": file.display,
+                "file": escape_control(&file.display),
                 "start": e.span.start,
                 "end": e.span.end,
                 "line": line,
@@ -76,17 +78,34 @@ pub fn fix_edits(sources: &Sources, fix: &Fix) -> Vec<Value> {
         .collect()
 }
 
-/// The whole report.
+/// The whole report. Each finding is turned into JSON text as it is reached, so the
+/// report's memory is its text, not a tree of every finding as well.
 pub fn render(sources: &Sources, findings: &[Finding], files: usize, channels: usize) -> String {
     let c = Counts::of(findings);
-    let v = json!({
-        "version": 1,
-        "files": files,
-        "channels": channels,
-        "findings": findings.iter().map(|f| finding(sources, f)).collect::<Vec<_>>(),
-        "summary": { "error": c.error, "warning": c.warning, "note": c.note },
+    let mut s = format!(
+        "{{\n  \"version\": 1,\n  \"files\": {files},\n  \"channels\": {channels},\n  \"findings\": ["
+    );
+    for (i, f) in findings.iter().enumerate() {
+        s.push_str(if i == 0 { "\n" } else { ",\n" });
+        let text =
+            serde_json::to_string_pretty(&finding(sources, f)).expect("JSON values serialise");
+        // Pretty JSON never holds a raw line break inside a string: indent by lines.
+        for (k, line) in text.lines().enumerate() {
+            if k > 0 {
+                s.push('\n');
+            }
+            s.push_str("    ");
+            s.push_str(line);
+        }
+    }
+    s.push_str(if findings.is_empty() {
+        "],\n"
+    } else {
+        "\n  ],\n"
     });
-    let mut s = serde_json::to_string_pretty(&v).expect("JSON values serialise");
-    s.push('\n');
+    s.push_str(&format!(
+        "  \"summary\": {{\n    \"error\": {},\n    \"warning\": {},\n    \"note\": {}\n  }}\n}}\n",
+        c.error, c.warning, c.note
+    ));
     s
 }

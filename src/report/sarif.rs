@@ -112,7 +112,10 @@ fn result(sources: &Sources, f: &Finding) -> Value {
         o.insert("ruleIndex".into(), json!(i));
     }
     o.insert("level".into(), json!(level(f.severity)));
-    o.insert("message".into(), json!({ "text": message_text(f) }));
+    o.insert(
+        "message".into(),
+        json!({ "text": crate::source::escape_control(&message_text(f)) }),
+    );
     o.insert(
         "locations".into(),
         json!([location(sources, &f.primary, None)]),
@@ -230,7 +233,10 @@ fn location(sources: &Sources, label: &Label, id: Option<usize>) -> Value {
         }),
     );
     if !label.text.is_empty() {
-        o.insert("message".into(), json!({ "text": label.text }));
+        o.insert(
+            "message".into(),
+            json!({ "text": crate::source::escape_control(&label.text) }),
+        );
     }
     Value::Object(o)
 }
@@ -242,7 +248,13 @@ fn location(sources: &Sources, label: &Label, id: Option<usize>) -> Value {
 /// `file://host/share/a.rig.yaml`. Every byte outside the unreserved set and `/` is
 /// percent-encoded, so a `:` in a relative path cannot be read as a scheme.
 pub fn uri(display: &str) -> String {
-    let path = display.replace('\\', "/");
+    // A backslash separates directories only on Windows; elsewhere it is a character
+    // of the name (`bad\name.rig.yaml`), percent-encoded like any other.
+    let path = if cfg!(windows) {
+        display.replace('\\', "/")
+    } else {
+        display.to_string()
+    };
     if !std::path::Path::new(display).is_absolute() {
         return encode(&path);
     }
@@ -285,7 +297,11 @@ mod tests {
         assert_eq!(uri("my rigs/bay 3.rig.yaml"), "my%20rigs/bay%203.rig.yaml");
         assert_eq!(uri("a:b.rig.yaml"), "a%3Ab.rig.yaml");
         assert_eq!(uri("µ#%.rig.yaml"), "%C2%B5%23%25.rig.yaml");
-        assert_eq!(uri("rigs\\bay.rig.yaml"), "rigs/bay.rig.yaml");
+        if cfg!(windows) {
+            assert_eq!(uri("rigs\\bay.rig.yaml"), "rigs/bay.rig.yaml");
+        } else {
+            assert_eq!(uri("bad\\name.rig.yaml"), "bad%5Cname.rig.yaml");
+        }
     }
 
     // RFC 8089 (the `file` URI scheme): `file:///path`, `file:///C:/path`,

@@ -115,6 +115,88 @@ impl LineIndex {
     }
 }
 
+/// Whether a character is shown escaped: C0 controls except tab and line feed, DEL and
+/// the C1 controls (ESC starts terminal sequences; BEL, backspace and carriage return
+/// move or sound; C1 includes a one-byte CSI).
+pub fn is_hidden_control(c: char) -> bool {
+    (c < ' ' && c != '\t' && c != '\n') || ('\u{7f}'..='\u{9f}').contains(&c)
+}
+
+/// Text from the input (a value, a comment, a file name) made safe to show: every
+/// control character of [`is_hidden_control`] is written as `\u{1b}`. The one escaping
+/// function of every renderer (human, JSON, SARIF, Markdown).
+pub fn escape_control(s: &str) -> std::borrow::Cow<'_, str> {
+    if !s.chars().any(is_hidden_control) {
+        return std::borrow::Cow::Borrowed(s);
+    }
+    let mut out = String::with_capacity(s.len() + 8);
+    for c in s.chars() {
+        if is_hidden_control(c) {
+            out.push_str(&format!("\\u{{{:x}}}", c as u32));
+        } else {
+            out.push(c);
+        }
+    }
+    std::borrow::Cow::Owned(out)
+}
+
+/// A source excerpt made safe to show, with the map between its offsets and the
+/// original's. Control characters are escaped as by [`escape_control`], except that a
+/// carriage return ending a line (alone, or before a line feed) stays a line break: a
+/// lone one becomes a line feed, as YAML reads it.
+#[derive(Debug, Clone)]
+pub struct Excerpt {
+    /// The escaped text.
+    pub text: String,
+    /// (original offset, escaped offset) at each escaped character, in order.
+    map: Vec<(usize, usize)>,
+}
+
+impl Excerpt {
+    /// The excerpt of `window`, or `None` when it shows as it is.
+    pub fn of(window: &str) -> Option<Excerpt> {
+        let bytes = window.as_bytes();
+        let hidden = |i: usize, c: char| {
+            c == '\r' && bytes.get(i + 1) != Some(&b'\n') || (c != '\r' && is_hidden_control(c))
+        };
+        if !window.char_indices().any(|(i, c)| hidden(i, c)) {
+            return None;
+        }
+        let mut text = String::with_capacity(window.len() + 16);
+        let mut map = Vec::new();
+        for (i, c) in window.char_indices() {
+            if c == '\r' && bytes.get(i + 1) != Some(&b'\n') {
+                text.push('\n');
+            } else if c != '\r' && is_hidden_control(c) {
+                map.push((i, text.len()));
+                text.push_str(&format!("\\u{{{:x}}}", c as u32));
+                map.push((i + c.len_utf8(), text.len()));
+            } else {
+                text.push(c);
+            }
+        }
+        Some(Excerpt { text, map })
+    }
+
+    /// The escaped offset of an original offset.
+    pub fn escaped(&self, original: usize) -> usize {
+        match self.map.iter().rev().find(|(o, _)| *o <= original) {
+            Some((o, e)) => e + (original - o),
+            None => original,
+        }
+    }
+
+    /// The original offset of an escaped offset (inside an escape: its character).
+    pub fn original(&self, escaped: usize) -> usize {
+        // Entries come in pairs: the start and the end of one escape.
+        match self.map.iter().rposition(|(_, e)| *e <= escaped) {
+            Some(i) if i % 2 == 0 && escaped < self.map[i + 1].1 => self.map[i].0,
+            Some(i) => self.map[i].0 + (escaped - self.map[i].1),
+            None => escaped,
+        }
+    }
+}
+
 /// Why a path that is not a regular file cannot be read: "is a directory, not a regular
 /// file", "is a named pipe (FIFO), not a regular file" …
 pub fn not_regular_file(meta: &std::fs::Metadata) -> String {
