@@ -41,6 +41,11 @@ pub struct Options {
     /// Texts that stand in for files on disk (an editor's unsaved buffers), by
     /// absolute path: see [`Overlay`].
     pub overlay: Option<Arc<Overlay>>,
+    /// Identify findings relative to this directory instead of their campaign roots:
+    /// the fingerprint's campaign-root field is `.` and path owners are relative to it
+    /// (`diff` sets it to each side's base, so that two sides laid out in different
+    /// directories give a finding the same fingerprint; docs/output.md).
+    pub identity_base: Option<PathBuf>,
 }
 
 /// Texts held in memory that stand in for the files at these paths: an editor's open
@@ -57,6 +62,7 @@ impl Default for Options {
             keep_rigs: false,
             progress: false,
             overlay: None,
+            identity_base: None,
         }
     }
 }
@@ -235,7 +241,7 @@ pub(crate) fn run_jobs(jobs: Vec<Job>, opts: &Options) -> Result<Outcome, Fatal>
     }
     let results = results.into_iter().collect::<Result<Vec<_>, _>>()?;
     let n = jobs.len();
-    Ok(finish(ctx, results, n, jobs))
+    Ok(finish(ctx, results, n, jobs, opts.identity_base.as_deref()))
 }
 
 /// The rig files under `root` that include `catalog`, as jobs with `like`'s root and
@@ -345,7 +351,13 @@ fn roots_without_settings(jobs: &[Job]) -> Vec<CampaignRoot> {
 }
 
 /// Gather the rigs' findings, apply settings levels and suppressions, and sort.
-fn finish(ctx: Ctx, results: Vec<RigResult>, files: usize, jobs: Vec<Job>) -> Outcome {
+fn finish(
+    ctx: Ctx,
+    results: Vec<RigResult>,
+    files: usize,
+    jobs: Vec<Job>,
+    identity_base: Option<&Path>,
+) -> Outcome {
     let mut findings = Vec::new();
     let mut suppressions: Vec<Suppression> = Vec::new();
     let mut channels = 0;
@@ -433,7 +445,7 @@ fn finish(ctx: Ctx, results: Vec<RigResult>, files: usize, jobs: Vec<Job>) -> Ou
     suppress::apply(&mut suppressions, &mut findings, &mut extra);
     findings.extend(extra);
     sort(&sources, &mut findings);
-    let owners = crate::fingerprint::Owners::new(&infos);
+    let owners = crate::fingerprint::Owners::new(&infos, identity_base);
     crate::fingerprint::assign(&mut findings, &owners, &sources);
     rigs.sort_by(|a, b| {
         sources

@@ -209,8 +209,9 @@ pub struct FileInfo {
 
 impl Owners {
     /// Work out every file's owner: its name, unless it has none or another file of the
-    /// run has the same one; then its path relative to its campaign root.
-    pub fn new(infos: &[FileInfo]) -> Self {
+    /// run has the same one; then its path relative to its campaign root. With `base`,
+    /// every file is identified relative to `base` instead (root field `.`).
+    pub fn new(infos: &[FileInfo], base: Option<&Path>) -> Self {
         let mut count: HashMap<&str, usize> = HashMap::new();
         for i in infos {
             if let Some(n) = &i.named {
@@ -220,13 +221,19 @@ impl Owners {
         let mut root_fields: HashMap<&Path, String> = HashMap::new();
         let mut files = HashMap::new();
         for i in infos {
-            let root = root_fields
-                .entry(i.root.as_path())
-                .or_insert_with(|| root_field(&i.root))
-                .clone();
+            let (root, dir) = match base {
+                Some(b) => (".".to_string(), b),
+                None => (
+                    root_fields
+                        .entry(i.root.as_path())
+                        .or_insert_with(|| root_field(&i.root))
+                        .clone(),
+                    i.root.as_path(),
+                ),
+            };
             let owner = match &i.named {
                 Some(n) if count[n.as_str()] == 1 => n.clone(),
-                _ => format!("path:{}", relative_path(&i.path, &i.root)),
+                _ => format!("path:{}", relative_path(&i.path, dir)),
             };
             files.insert(i.file, (owner, root));
         }

@@ -283,6 +283,8 @@ fn shared_divider_change_is_derived_fans_out_and_fails_the_gate() {
             "clocks": 4,
             "introduced": { "error": 1, "warning": 4, "note": 0 },
             "resolved": { "error": 0, "warning": 0, "note": 0 },
+            "changed_findings": 0,
+            "unchanged_findings": 0,
         })
     );
 }
@@ -299,7 +301,7 @@ fn shared_divider_human_and_markdown() {
     assert!(out.contains("      ratio              3 → 1.5\n"));
     assert!(out.contains("      alias attenuation  100.00 dB at the ADC → —\n"));
     assert!(out.ends_with(
-        "5 channels changed (5 derived), 0 added, 0 removed; 4 clocks changed; introduced 1 error, 4 warnings, 0 notes; resolved 0 errors, 0 warnings, 0 notes\n"
+        "5 channels changed (5 derived), 0 added, 0 removed; 4 clocks changed; introduced 1 error, 4 warnings, 0 notes; resolved 0 errors, 0 warnings, 0 notes; 0 findings changed, 0 unchanged\n"
     ), "{out}");
     // Deterministic: a second run prints the same bytes.
     assert_eq!(run(&["diff", SHARED_OLD, SHARED_NEW]).0, out);
@@ -729,7 +731,7 @@ fn rev_compares_the_working_tree_with_a_commit() {
     let text = String::from_utf8_lossy(&out.stdout);
     assert_eq!(out.status.code(), Some(0), "{text}");
     assert!(text.contains("introduced findings: none"), "{text}");
-    assert!(text.ends_with("0 channels changed (0 derived), 0 added, 0 removed; 0 clocks changed; introduced 0 errors, 0 warnings, 0 notes; resolved 0 errors, 0 warnings, 0 notes\n"), "{text}");
+    assert!(text.ends_with("0 channels changed (0 derived), 0 added, 0 removed; 0 clocks changed; introduced 0 errors, 0 warnings, 0 notes; resolved 0 errors, 0 warnings, 0 notes; 0 findings changed, 3 unchanged\n"), "{text}");
 
     // An unknown revision is fatal.
     let out = foldcheck(&repo.0, &["diff", "--rev", "no-such-branch"]);

@@ -250,12 +250,15 @@ fn fingerprinted(findings: Vec<Finding>) -> Vec<String> {
         "bay.rig.yaml".into(),
         "format: 1\nrig: bay-3\n".into(),
     );
-    let owners = Owners::new(&[FileInfo {
-        file,
-        named: Some("rig:bay-3".into()),
-        root: std::env::temp_dir(),
-        path: Path::new("bay.rig.yaml").into(),
-    }]);
+    let owners = Owners::new(
+        &[FileInfo {
+            file,
+            named: Some("rig:bay-3".into()),
+            root: std::env::temp_dir(),
+            path: Path::new("bay.rig.yaml").into(),
+        }],
+        None,
+    );
     let mut findings: Vec<Finding> = findings
         .into_iter()
         .map(|mut f| {

@@ -10,8 +10,11 @@
 //! is a *derived* change, and [`Cause`] names what upstream moved it (the first clock on
 //! its clock path whose rate changed, its sensor, its module, or the thresholds).
 //!
-//! Findings are matched with [`FindingKey`] (no line numbers: lines move). The exit
-//! status is 1 only when the change *introduces* a finding at or above `--fail-on`.
+//! Findings are matched by fingerprint ([`crate::fingerprint`]: rule, owner and subject,
+//! never the message, numbers or lines). A fingerprint on both sides is *unchanged* or
+//! *changed* (its values, message or severity differ: shown before → after); one only on
+//! the new side is *introduced*, one only on the old side *resolved*. The exit status is
+//! 1 only when the change introduces a finding at or above `--fail-on`.
 
 mod git;
 mod render;
@@ -82,6 +85,11 @@ pub struct Diff {
     pub introduced: Vec<DiffFinding>,
     /// Findings of the old side that the new side does not have.
     pub resolved: Vec<DiffFinding>,
+    /// Findings on both sides (same fingerprint) whose values, message or severity
+    /// differ: (old side, new side).
+    pub changed: Vec<(DiffFinding, DiffFinding)>,
+    /// Findings on both sides with the same values, message and severity.
+    pub unchanged: usize,
 }
 
 impl Diff {
@@ -329,34 +337,6 @@ pub struct DiffFinding {
     pub now_suppressed: Option<String>,
 }
 
-/// How a finding is recognised on both sides of a diff.
-///
-/// The key is (file path relative to its side's base, rule, severity, channel, message).
-/// Line and column are left out on purpose: editing one channel moves every line below
-/// it, and a finding that merely moved must not count as introduced. The message is a
-/// good identity because it names what the finding is about and carries its numbers but
-/// never a position (STYLE: positions never go into message text); so a finding whose
-/// numbers got worse (a channel that now samples at 1.6 kHz instead of 3.2 kHz) is a new
-/// finding, which is what a review gate wants. The help line is left out because it
-/// mentions other channels ("also changes 3 other channels") and moves with unrelated
-/// edits. Severity is in the key so that raising a rule from warning to error is seen as
-/// a new error. The side's base directory is masked in the message (an `include`
-/// message names the campaign root, which differs between sides). Keys are counted as a
-/// multiset, so two identical findings on the old side resolve only when both go.
-#[derive(Clone, Debug, PartialEq, Eq, Hash)]
-pub struct FindingKey {
-    /// The file relative to the side's base (`""` for the rig in a two-file diff).
-    pub file: String,
-    /// The rule.
-    pub rule: &'static str,
-    /// The severity after settings.
-    pub severity: Severity,
-    /// The channel, if any.
-    pub channel: Option<String>,
-    /// The message, with the side's base directory masked.
-    pub message: String,
-}
-
 /// One linted side and how to name its files.
 struct Side {
     out: Outcome,
@@ -381,6 +361,9 @@ impl Side {
         let opts = Options {
             settings,
             keep_rigs: true,
+            // Both sides identify findings relative to their own base, so that a
+            // finding has one fingerprint on both sides (docs/output.md).
+            identity_base: Some(canonical_lenient(base)),
             ..Options::default()
         };
         let out = campaign::run(paths, &opts).map_err(|e| match e {
@@ -427,22 +410,6 @@ impl Side {
     /// The YAML text of a span, comments and spacing normalised.
     fn text(&self, span: crate::source::Span) -> String {
         normalized(self.out.sources.get(span.file).slice(span))
-    }
-
-    fn finding_key(&self, f: &Finding) -> FindingKey {
-        let base = self.base.to_string_lossy();
-        let message = if base.len() > 1 {
-            f.message.replace(base.as_ref(), "<base>")
-        } else {
-            f.message.clone()
-        };
-        FindingKey {
-            file: self.key(f.primary.span.file),
-            rule: f.rule,
-            severity: f.severity,
-            channel: f.channel.clone(),
-            message,
-        }
     }
 
     fn diff_finding(&self, f: &Finding) -> DiffFinding {
@@ -662,7 +629,7 @@ fn compare(o: &Side, n: &Side, old: String, new: String, rev: Option<(String, St
             (None, None) => {} // every key comes from one of the sides
         }
     }
-    let (introduced, resolved) = match_findings(o, n);
+    let (introduced, resolved, changed, unchanged) = match_findings(o, n);
     Diff {
         old,
         new,
@@ -672,6 +639,8 @@ fn compare(o: &Side, n: &Side, old: String, new: String, rev: Option<(String, St
         clocks: clocks.into_values().collect(),
         introduced,
         resolved,
+        changed,
+        unchanged,
     }
 }
 
@@ -896,53 +865,74 @@ fn compare_clocks(
                 channels_after: 0,
                 rigs: 0,
             });
-        entry.channels_before += reach(orig, oi);
-        entry.channels_after += reach(nrig, ni);
-        entry.rigs += 1;
+        let (rb, ra) = (reach(orig, oi), reach(nrig, ni));
+        entry.channels_before += rb;
+        entry.channels_after += ra;
+        // A rig counts when the clock reaches one of its channels on either side: a
+        // catalog clock that a rig includes but does not use changes nothing there.
+        if rb > 0 || ra > 0 {
+            entry.rigs += 1;
+        }
     }
 }
 
-/// Introduced and resolved findings (see [`FindingKey`]). Suppressed findings take no
-/// part: they neither introduce nor keep a finding, but a resolved finding that the new
-/// side merely suppresses says so.
-fn match_findings(o: &Side, n: &Side) -> (Vec<DiffFinding>, Vec<DiffFinding>) {
-    let count = |side: &Side| {
-        let mut m: HashMap<FindingKey, usize> = HashMap::new();
+/// Introduced, resolved, changed and unchanged findings, matched by fingerprint (see
+/// the module documentation). Suppressed findings take no part: they neither introduce
+/// nor keep a finding, but a resolved finding that the new side merely suppresses says
+/// so.
+type Matched = (
+    Vec<DiffFinding>,
+    Vec<DiffFinding>,
+    Vec<(DiffFinding, DiffFinding)>,
+    usize,
+);
+
+fn match_findings(o: &Side, n: &Side) -> Matched {
+    let fp = |f: &Finding| f.fingerprint.clone().unwrap_or_default();
+    fn index(side: &Side) -> HashMap<String, &Finding> {
+        let mut m: HashMap<String, &Finding> = HashMap::new();
         for f in side.out.findings.iter().filter(|f| f.suppressed.is_none()) {
-            *m.entry(side.finding_key(f)).or_default() += 1;
+            m.entry(f.fingerprint.clone().unwrap_or_default())
+                .or_insert(f);
         }
         m
-    };
-    let (mut old_count, mut new_count) = (count(o), count(n));
-    let mut introduced = Vec::new();
-    for f in n.out.findings.iter().filter(|f| f.suppressed.is_none()) {
-        match old_count.get_mut(&n.finding_key(f)) {
-            Some(c) if *c > 0 => *c -= 1,
-            _ => introduced.push(n.diff_finding(f)),
-        }
     }
-    let suppressed: HashMap<FindingKey, &String> = n
-        .out
-        .findings
-        .iter()
-        .filter_map(|f| f.suppressed.as_ref().map(|r| (n.finding_key(f), r)))
-        .collect();
-    let mut resolved = Vec::new();
-    for f in o.out.findings.iter().filter(|f| f.suppressed.is_none()) {
-        let key = o.finding_key(f);
-        match new_count.get_mut(&key) {
-            Some(c) if *c > 0 => *c -= 1,
-            _ => {
-                let mut d = o.diff_finding(f);
-                d.now_suppressed = suppressed.get(&key).map(|r| r.to_string());
-                if let (Some(r), Value::Object(obj)) = (&d.now_suppressed, &mut d.json) {
-                    obj.insert("now_suppressed".into(), Value::from(r.clone()));
+    let (old_by, new_by) = (index(o), index(n));
+    let mut introduced = Vec::new();
+    let mut changed = Vec::new();
+    let mut unchanged = 0;
+    for f in n.out.findings.iter().filter(|f| f.suppressed.is_none()) {
+        match old_by.get(&fp(f)) {
+            None => introduced.push(n.diff_finding(f)),
+            Some(of) => {
+                if of.values == f.values && of.message == f.message && of.severity == f.severity {
+                    unchanged += 1;
+                } else {
+                    changed.push((o.diff_finding(of), n.diff_finding(f)));
                 }
-                resolved.push(d);
             }
         }
     }
-    (introduced, resolved)
+    let suppressed: HashMap<String, &String> = n
+        .out
+        .findings
+        .iter()
+        .filter_map(|f| f.suppressed.as_ref().map(|r| (fp(f), r)))
+        .collect();
+    let mut resolved = Vec::new();
+    for f in o.out.findings.iter().filter(|f| f.suppressed.is_none()) {
+        let key = fp(f);
+        if new_by.contains_key(&key) {
+            continue;
+        }
+        let mut d = o.diff_finding(f);
+        d.now_suppressed = suppressed.get(&key).map(|r| r.to_string());
+        if let (Some(r), Value::Object(obj)) = (&d.now_suppressed, &mut d.json) {
+            obj.insert("now_suppressed".into(), Value::from(r.clone()));
+        }
+        resolved.push(d);
+    }
+    (introduced, resolved, changed, unchanged)
 }
 
 /// A YAML fragment with comments removed and whitespace collapsed, so that re-spacing

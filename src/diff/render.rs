@@ -136,14 +136,38 @@ fn summary_line(d: &Diff) -> String {
     let changed = count(d, Status::Changed);
     let derived = d.channels.iter().filter(|c| c.is_derived()).count();
     format!(
-        "{} changed ({derived} derived), {} added, {} removed; {} changed; introduced {}; resolved {}\n",
+        "{} changed ({derived} derived), {} added, {} removed; {} changed; introduced {}; resolved {}; {} changed, {} unchanged\n",
         plural(changed, "channel"),
         count(d, Status::Added),
         count(d, Status::Removed),
         plural(d.clocks.len(), "clock"),
         Tally::of(&d.introduced).text(),
         Tally::of(&d.resolved).text(),
+        plural(d.changed.len(), "finding"),
+        d.unchanged,
     )
+}
+
+/// What differs between the two sides of a changed finding, one `key: before → after`
+/// per differing value (then severity), in the new side's value order.
+fn value_changes(old: &DiffFinding, new: &DiffFinding) -> Vec<String> {
+    let (a, b) = (&old.finding, &new.finding);
+    let show = |v: Option<&Value>| v.map_or("none".to_string(), |v| v.to_string());
+    let mut keys: Vec<&String> = b.values.keys().collect();
+    keys.extend(a.values.keys().filter(|k| !b.values.contains_key(*k)));
+    let mut out: Vec<String> = keys
+        .into_iter()
+        .filter(|k| a.values.get(*k) != b.values.get(*k))
+        .map(|k| format!("{k}: {} → {}", show(a.values.get(k)), show(b.values.get(k))))
+        .collect();
+    if a.severity != b.severity {
+        out.push(format!(
+            "severity: {} → {}",
+            a.severity.as_str(),
+            b.severity.as_str()
+        ));
+    }
+    out
 }
 
 /// Plain text: clocks, rig files, channels per rig, introduced and resolved findings,
@@ -229,6 +253,26 @@ pub fn human(d: &Diff) -> String {
             }
             if with_help && let Some(h) = &f.finding.help {
                 s.push_str(&format!("      help: {}\n", escape_control(h)));
+            }
+        }
+    }
+    if d.changed.is_empty() {
+        s.push_str("\nchanged findings: none\n");
+    } else {
+        s.push_str(&format!("\nchanged findings: {}\n", d.changed.len()));
+        for (old, new) in &d.changed {
+            s.push_str(&format!(
+                "  {}:{}:{}  {}  {}  {}\n      was: {}\n",
+                new.file,
+                new.line,
+                new.column,
+                new.finding.severity.as_str(),
+                new.finding.rule,
+                new.finding.message,
+                old.finding.message
+            ));
+            for c in value_changes(old, new) {
+                s.push_str(&format!("      {c}\n"));
             }
         }
     }
@@ -358,6 +402,11 @@ pub fn json(d: &Diff) -> String {
         "channels": channels,
         "introduced": d.introduced.iter().map(|f| f.json.clone()).collect::<Vec<_>>(),
         "resolved": d.resolved.iter().map(|f| f.json.clone()).collect::<Vec<_>>(),
+        "changed": d.changed.iter().map(|(old, new)| json!({
+            "fingerprint": new.finding.fingerprint,
+            "before": old.json,
+            "after": new.json,
+        })).collect::<Vec<_>>(),
         "summary": {
             "channels": {
                 "added": count(d, Status::Added),
@@ -368,6 +417,8 @@ pub fn json(d: &Diff) -> String {
             "clocks": d.clocks.len(),
             "introduced": Tally::of(&d.introduced).json(),
             "resolved": Tally::of(&d.resolved).json(),
+            "changed_findings": d.changed.len(),
+            "unchanged_findings": d.unchanged,
         },
     });
     let mut s = serde_json::to_string_pretty(&v).expect("JSON values serialise");
@@ -459,6 +510,31 @@ pub fn markdown(d: &Diff) -> String {
                 f.line,
                 f.column,
                 escape_control(&f.finding.message).replace('\n', " ")
+            ));
+        }
+    }
+    if !d.changed.is_empty() {
+        s.push_str(&format!("\n**Changed findings** ({})\n\n", d.changed.len()));
+        for (old, new) in &d.changed {
+            let changes = value_changes(old, new)
+                .iter()
+                .map(|c| format!("`{c}`"))
+                .collect::<Vec<_>>()
+                .join(", ");
+            s.push_str(&format!(
+                "- **{}** `{}` at `{}:{}:{}`: {} (was: {}){}\n",
+                new.finding.severity.as_str(),
+                new.finding.rule,
+                new.file,
+                new.line,
+                new.column,
+                cell(&new.finding.message),
+                cell(&old.finding.message),
+                if changes.is_empty() {
+                    String::new()
+                } else {
+                    format!("; {changes}")
+                }
             ));
         }
     }
