@@ -396,3 +396,35 @@ fn every_case_finding_has_its_rules_subject() {
     }
     assert!(checked > 50, "only {checked} findings checked");
 }
+
+/// SARIF carries the same fingerprints as JSON, under `partialFingerprints
+/// ["foldcheck/v1"]`, and each rule a PascalCase `name`.
+#[test]
+fn sarif_partial_fingerprints_are_the_json_fingerprints() {
+    let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fingerprint");
+    let (j, _) = check_json(&dir, &["wording.rig.yaml"]);
+    let out = common::run_in(&dir, &["check", "--format", "sarif", "wording.rig.yaml"]);
+    let s: Value = serde_json::from_slice(&out.stdout).expect("SARIF is JSON");
+    let run = &s["runs"][0];
+    let from_sarif: Vec<&str> = run["results"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|r| r["partialFingerprints"]["foldcheck/v1"].as_str().unwrap())
+        .collect();
+    let from_json: Vec<&str> = j["findings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|f| f["fingerprint"].as_str().unwrap())
+        .collect();
+    assert!(from_json.len() > 10);
+    assert_eq!(from_sarif, from_json);
+    let names: Vec<&str> = run["tool"]["driver"]["rules"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|r| r["name"].as_str().unwrap())
+        .collect();
+    assert!(names.contains(&"AliasRejection") && names.contains(&"Nyquist"));
+}

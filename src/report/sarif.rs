@@ -75,11 +75,25 @@ fn level(s: Severity) -> &'static str {
 fn rule(r: &Rule) -> Value {
     json!({
         "id": r.name,
+        "name": pascal_case(r.name),
         "shortDescription": { "text": r.summary },
         "fullDescription": { "text": unwrap_paragraphs(r.explanation) },
         "help": { "text": describe(r), "markdown": help_markdown(r) },
         "defaultConfiguration": { "level": level(r.severity) },
     })
+}
+
+/// A rule's friendly SARIF `name`: its kebab-case name in PascalCase
+/// (`alias-rejection` → `AliasRejection`), as SARIF's reportingDescriptor.name asks.
+pub fn pascal_case(name: &str) -> String {
+    name.split('-')
+        .map(|w| {
+            let mut c = w.chars();
+            c.next()
+                .map(|f| f.to_uppercase().chain(c).collect::<String>())
+                .unwrap_or_default()
+        })
+        .collect()
 }
 
 /// Join the hard-wrapped lines of each paragraph; paragraphs stay apart.
@@ -343,6 +357,13 @@ mod tests {
         assert_eq!(message_text(&f), "too slow");
         let f = f.with_help("divide by less");
         assert_eq!(message_text(&f), "too slow. divide by less.");
+    }
+
+    #[test]
+    fn rule_names_are_pascal_case() {
+        assert_eq!(pascal_case("alias-rejection"), "AliasRejection");
+        assert_eq!(pascal_case("nyquist"), "Nyquist");
+        assert_eq!(pascal_case("yaml-syntax"), "YamlSyntax");
     }
 
     #[test]
