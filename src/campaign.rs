@@ -46,6 +46,12 @@ pub struct Options {
     /// (`diff` sets it to each side's base, so that two sides laid out in different
     /// directories give a finding the same fingerprint; docs/output.md).
     pub identity_base: Option<PathBuf>,
+    /// Analyse only this channel (with the members of its groups) in each rig that has
+    /// it, as `inspect` does: the rig is resolved whole and the rules that read the rig
+    /// (budgets from its rates, clocks, groups) run, but other channels are not
+    /// analysed, so they raise no channel findings. Proposed fixes are then not
+    /// verified and are dropped (their findings keep the help without a fix).
+    pub scope: Option<String>,
 }
 
 /// Texts held in memory that stand in for the files at these paths: an editor's open
@@ -63,6 +69,7 @@ impl Default for Options {
             progress: false,
             overlay: None,
             identity_base: None,
+            scope: None,
         }
     }
 }
@@ -164,15 +171,18 @@ struct Ctx {
     catalogs: Mutex<HashMap<PathBuf, Arc<OnceLock<CatalogLoad>>>>,
     max_file_bytes: u64,
     overlay: Option<Arc<Overlay>>,
+    /// See [`Options::scope`].
+    scope: Option<String>,
 }
 
 impl Ctx {
-    fn new(max_file_bytes: u64, overlay: Option<Arc<Overlay>>) -> Self {
+    fn new(max_file_bytes: u64, overlay: Option<Arc<Overlay>>, scope: Option<String>) -> Self {
         Ctx {
             sources: Mutex::new(Sources::new()),
             catalogs: Mutex::new(HashMap::new()),
             max_file_bytes,
             overlay,
+            scope,
         }
     }
 }
@@ -211,13 +221,23 @@ pub fn run(paths: &[PathBuf], opts: &Options) -> Result<Outcome, Fatal> {
     let mut out = run_jobs(jobs, opts)?;
     out.notes = notes;
     out.roots_without_settings = roots;
-    crate::fix::verify(&mut out, opts.max_file_bytes);
+    if opts.scope.is_some() {
+        for f in &mut out.findings {
+            f.drop_fix();
+        }
+    } else {
+        crate::fix::verify(&mut out, opts.max_file_bytes);
+    }
     Ok(out)
 }
 
 /// Lint these jobs (no verification of fixes).
 pub(crate) fn run_jobs(jobs: Vec<Job>, opts: &Options) -> Result<Outcome, Fatal> {
-    let ctx = Ctx::new(opts.max_file_bytes, opts.overlay.clone());
+    let ctx = Ctx::new(
+        opts.max_file_bytes,
+        opts.overlay.clone(),
+        opts.scope.clone(),
+    );
     let done = std::sync::atomic::AtomicUsize::new(0);
     let total = jobs.len();
     let show = opts.progress && total >= PROGRESS_FROM;
@@ -1027,7 +1047,15 @@ fn lint_loaded(ctx: &Ctx, job: &Job, keep: bool, mut loaded: Loaded) -> RigResul
         crate::rules::rule(rule).is_none_or(|r| job.settings.level(rule, r.severity) != Level::Off)
     };
     let actx = crate::analysis::Context::new(crate::analysis::Enabled::from_fn(on));
-    let analysis = crate::analysis::analyse_rig(&rig, &actx);
+    let scope = ctx
+        .scope
+        .as_deref()
+        .and_then(|name| rig.channel(name))
+        .map(|ci| rig.scope_of(ci));
+    let analysis = match &scope {
+        Some(channels) => crate::analysis::analyse_only(&rig, channels, &actx),
+        None => crate::analysis::analyse_rig(&rig, &actx),
+    };
     out.extend(crate::rules::check_analysis(&analysis, on));
     drop(analysis);
     // The rig's model is not needed past its rules: dropping it here keeps a campaign's

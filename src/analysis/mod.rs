@@ -213,6 +213,33 @@ pub fn analyse_rig<'r>(rig: &'r Rig, ctx: &Context) -> RigAnalysis<'r> {
     }
 }
 
+/// Analyse only the channels `scope` (indices into [`Rig::channels`]); every other
+/// channel is left out ([`NotAnalysed::OutOfScope`]) and raises no channel finding.
+/// `inspect` uses it with [`Rig::scope_of`] so that its cost does not grow with the
+/// rig's channel count.
+pub fn analyse_only<'r>(rig: &'r Rig, scope: &[usize], ctx: &Context) -> RigAnalysis<'r> {
+    let limits = Limits::of(rig);
+    RigAnalysis {
+        rig,
+        channels: (0..rig.channels.len())
+            .map(|i| {
+                if scope.contains(&i) {
+                    analyse_with(rig, i, &limits, ctx)
+                } else {
+                    ChannelAnalysis {
+                        channel: i,
+                        module_rate: None,
+                        sensor_band: None,
+                        rates: Err(NotAnalysed::OutOfScope),
+                        fix: None,
+                    }
+                }
+            })
+            .collect(),
+        enabled: ctx.enabled,
+    }
+}
+
 /// Analyse one channel of a rig (for `inspect`, an editor hovering one channel, …).
 pub fn analyse_channel(rig: &Rig, channel: usize, ctx: &Context) -> ChannelAnalysis {
     analyse_with(rig, channel, &Limits::of(rig), ctx)
@@ -272,6 +299,8 @@ pub enum NotAnalysed {
     Unresolved,
     /// No band and no sensor bandwidth.
     NoBand,
+    /// Left out on purpose: the run analyses only some channels ([`analyse_only`]).
+    OutOfScope,
 }
 
 impl NotAnalysed {
@@ -284,6 +313,7 @@ impl NotAnalysed {
             NotAnalysed::NoBand => {
                 "the channel has no `band` and its sensor no `bandwidth`, so nothing can be checked"
             }
+            NotAnalysed::OutOfScope => "the channel was not analysed in this run",
         }
     }
 }

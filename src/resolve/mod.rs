@@ -197,6 +197,18 @@ pub struct Rig {
 }
 
 impl Rig {
+    /// A channel and the members of every group it belongs to (indices into
+    /// [`Rig::channels`], sorted): what must be analysed to show that channel.
+    pub fn scope_of(&self, channel: usize) -> Vec<usize> {
+        let mut out = vec![channel];
+        for members in self.group_members.iter().filter(|m| m.contains(&channel)) {
+            out.extend(members);
+        }
+        out.sort_unstable();
+        out.dedup();
+        out
+    }
+
     /// The clock path from the root to `clock` (inclusive), root first.
     pub fn clock_path(&self, clock: usize) -> Vec<usize> {
         let mut path = vec![clock];
