@@ -45,8 +45,9 @@ pub fn run(
     let opts = Options {
         keep_rigs: true,
         settings: settings.clone(),
-        // Analyse the channel shown (and its groups), not the whole rig.
-        scope: Some(channel.to_string()),
+        // Analyse the channel shown (and its groups), not the whole rig; with no channel
+        // named, the whole rig.
+        scope: channel.map(str::to_string),
         ..Default::default()
     };
     let out = campaign::run(&[file.to_path_buf()], &opts).map_err(|e| e.to_string())?;
