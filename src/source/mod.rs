@@ -70,24 +70,40 @@ pub struct LineIndex {
 }
 
 impl LineIndex {
-    /// Index the lines of `text`.
+    /// Index the lines of `text`. A line ends at a line feed, a carriage return and
+    /// line feed, or a lone carriage return (as YAML reads them).
     pub fn new(text: &str) -> Self {
+        let bytes = text.as_bytes();
         let mut starts = vec![0];
         starts.extend(
-            text.bytes()
+            bytes
+                .iter()
                 .enumerate()
-                .filter(|(_, b)| *b == b'\n')
+                .filter(|&(i, &b)| b == b'\n' || (b == b'\r' && bytes.get(i + 1) != Some(&b'\n')))
                 .map(|(i, _)| i + 1),
         );
         LineIndex { starts }
+    }
+
+    /// Where line `line` (0-based) starts for counting columns: a byte-order mark at the
+    /// start of the file is not a column.
+    fn column_start(&self, text: &str, line: usize) -> usize {
+        let start = self.starts[line];
+        if line == 0 && text.starts_with('\u{feff}') {
+            start + '\u{feff}'.len_utf8()
+        } else {
+            start
+        }
     }
 
     /// 1-based line and 1-based column (in characters) of byte `offset` in `text`.
     pub fn line_col(&self, text: &str, offset: usize) -> (usize, usize) {
         let offset = offset.min(text.len());
         let line = self.starts.partition_point(|&s| s <= offset) - 1;
-        let start = self.starts[line];
-        let mut end = offset;
+        let start = self
+            .column_start(text, line)
+            .min(offset.max(self.starts[line]));
+        let mut end = offset.max(start);
         while end > start && !text.is_char_boundary(end) {
             end -= 1;
         }
@@ -97,11 +113,12 @@ impl LineIndex {
 
     /// Byte offset of 1-based `line` and 1-based character `column`, clamped to the text.
     pub fn offset(&self, text: &str, line: usize, column: usize) -> usize {
-        let Some(&start) = self.starts.get(line.saturating_sub(1)) else {
-            return text.len();
+        let Some(index) = line.checked_sub(1).filter(|&l| l < self.starts.len()) else {
+            return if line == 0 { 0 } else { text.len() };
         };
+        let start = self.column_start(text, index);
         let rest = &text[start..];
-        let line_len = rest.find('\n').unwrap_or(rest.len());
+        let line_len = rest.find(['\n', '\r']).unwrap_or(rest.len());
         rest[..line_len]
             .char_indices()
             .nth(column.saturating_sub(1))
@@ -319,5 +336,30 @@ mod tests {
         // byte 7 is after the two-byte µ and the s: column 3 in characters
         assert_eq!(idx.line_col(text, 8), (2, 3));
         assert_eq!(idx.offset(text, 2, 3), 8);
+    }
+
+    #[test]
+    fn byte_order_mark_is_not_a_column() {
+        // Regression: with a UTF-8 BOM, `format: 2` was placed at 1:10 (right: 1:9).
+        let text = "\u{feff}format: 2\nrig: a\n";
+        let idx = LineIndex::new(text);
+        let two = text.find('2').unwrap();
+        assert_eq!(idx.line_col(text, two), (1, 9));
+        assert_eq!(idx.offset(text, 1, 9), two);
+        assert_eq!(idx.line_col(text, 0), (1, 1));
+        assert_eq!(idx.line_col(text, text.find("rig").unwrap()), (2, 1));
+    }
+
+    #[test]
+    fn lone_carriage_return_ends_a_line() {
+        // Regression: with lone-CR line endings everything was on line 1 (JSON said
+        // 1:104 where the human header said 8:104; right: 8:12).
+        let text = "a: 1\rb: 2\r\nc: 3\nd: 4";
+        let idx = LineIndex::new(text);
+        assert_eq!(idx.lines(), 4);
+        assert_eq!(idx.line_col(text, text.find('b').unwrap()), (2, 1));
+        assert_eq!(idx.line_col(text, text.find('c').unwrap()), (3, 1));
+        assert_eq!(idx.line_col(text, text.find('4').unwrap()), (4, 4));
+        assert_eq!(idx.offset(text, 2, 4), text.find('2').unwrap());
     }
 }
