@@ -520,3 +520,62 @@ fn hostile_messages_get_answers_and_the_server_survives() {
     );
     assert!(c.shutdown().success());
 }
+
+#[test]
+fn fingerprints_match_check() {
+    // Each diagnostic's `data` carries the fingerprint `check --format json` gives the
+    // same finding (rule and range), or nothing when check gives none.
+    let root = std::path::Path::new(env!("CARGO_MANIFEST_DIR"));
+    let rig = root.join("examples/gearbox-nvh.rig.yaml");
+    let text = std::fs::read_to_string(&rig).unwrap();
+    let uri = file_uri(&rig);
+    let mut c = LspClient::start(root);
+    initialize(&mut c, json!({}));
+    open(&mut c, &uri, &text);
+    let got = c.diagnostics(&uri);
+    let (report, _) = common::check_json(root, &[rig.to_str().unwrap()]);
+    let lines: Vec<&str> = text.split('\n').collect();
+    // 1-based line and character column to a UTF-16 position (docs/output.md).
+    let at = |line: u64, col: u64| {
+        let l = lines[line as usize - 1];
+        let units: usize = l.chars().take(col as usize - 1).map(char::len_utf16).sum();
+        pos(line as u32 - 1, units as u32)
+    };
+    let want: Vec<(Value, Value, Value)> = report["findings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|f| f.get("suppressed").is_none() && f["file"] == rig.to_str().unwrap())
+        .map(|f| {
+            (
+                f["rule"].clone(),
+                json!({ "start": at(f["line"].as_u64().unwrap(), f["column"].as_u64().unwrap()),
+                        "end": at(f["end_line"].as_u64().unwrap(), f["end_column"].as_u64().unwrap()) }),
+                f.get("fingerprint").cloned().unwrap_or(Value::Null),
+            )
+        })
+        .collect();
+    let mut have: Vec<(Value, Value, Value)> = got
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|d| {
+            (
+                d["code"].clone(),
+                d["range"].clone(),
+                d.pointer("/data/fingerprint")
+                    .cloned()
+                    .unwrap_or(Value::Null),
+            )
+        })
+        .collect();
+    assert_eq!(have.len(), want.len(), "{got}\n{report}");
+    for w in &want {
+        let i = have
+            .iter()
+            .position(|h| h == w)
+            .unwrap_or_else(|| panic!("no diagnostic {w:?} in {got}"));
+        have.remove(i);
+    }
+    assert!(c.shutdown().success());
+}
