@@ -2,7 +2,8 @@
 //! shared and cached), resolving, running the rules, applying settings and
 //! suppressions, and sorting the findings.
 
-use crate::finding::{Finding, Label, Severity};
+use crate::declared;
+use crate::finding::Finding;
 use crate::model::build;
 use crate::model::{Document, Role};
 use crate::resolve::{self, Rig, Unchecked};
@@ -828,13 +829,13 @@ fn too_large(id: FileId, size: Option<u64>, limit: u64) -> Finding {
         Some(n) => format!("the file is {n} bytes"),
         None => format!("the file holds more than {limit} bytes"),
     };
-    Finding::new(
-        "yaml-syntax",
-        Severity::Error,
-        Label::new(Span::point(id, 0), "file too large"),
-        format!("{what}, over the {limit}-byte limit for one rig or catalog"),
-    )
-    .with_help("split the rig, or raise the limit with --max-file-size")
+    declared::YAML_SYNTAX
+        .finding(
+            Span::point(id, 0),
+            "file too large",
+            format!("{what}, over the {limit}-byte limit for one rig or catalog"),
+        )
+        .with_help("split the rig, or raise the limit with --max-file-size")
 }
 
 /// Read a file's text for linting. Too-large and non-UTF-8 files become findings. Only
@@ -893,13 +894,13 @@ fn read_file(ctx: &Ctx, path: &Path, display: String) -> Result<(FileId, Option<
                 .lock()
                 .expect("no thread panicked")
                 .add(path, display, text);
-            let f = Finding::new(
-                "yaml-syntax",
-                Severity::Error,
-                Label::new(Span::point(id, at), "not UTF-8"),
-                format!("the file is not valid UTF-8 (byte {at} starts an invalid sequence)"),
-            )
-            .with_help("save the file as UTF-8");
+            let f = declared::YAML_SYNTAX
+                .finding(
+                    Span::point(id, at),
+                    "not UTF-8",
+                    format!("the file is not valid UTF-8 (byte {at} starts an invalid sequence)"),
+                )
+                .with_help("save the file as UTF-8");
             Ok((id, Some(f)))
         }
     }
@@ -938,15 +939,11 @@ fn load_text(file: FileId, text: &str, lines: &LineIndex, role: Role) -> Loaded 
         Ok(n) => Some(n),
         Err(e) => {
             findings.push(
-                Finding::new(
-                    "yaml-syntax",
-                    Severity::Error,
-                    Label::new(e.span, "here"),
-                    e.message,
-                )
-                .with_help(
-                    "fix the YAML syntax; nothing else in the file is checked until it parses",
-                ),
+                declared::YAML_SYNTAX
+                    .finding(e.span, "here", e.message)
+                    .with_help(
+                        "fix the YAML syntax; nothing else in the file is checked until it parses",
+                    ),
             );
             None
         }
@@ -1110,13 +1107,9 @@ fn include_all(
         let target = dir.join(&inc.value);
         let abs = absolute(&target);
         let include_finding = |label: &str, message: String, help: &str| {
-            Finding::new(
-                "include",
-                Severity::Error,
-                Label::new(inc.span, label),
-                message,
-            )
-            .with_help(help)
+            declared::INCLUDE
+                .finding(inc.span, label, message)
+                .with_help(help)
         };
         if stack.len() > MAX_INCLUDE_DEPTH {
             out.push(include_finding(
@@ -1326,13 +1319,13 @@ fn report_unchecked(out: &mut Vec<Finding>, failed: &[FailedInclude], unchecked:
             }
         }
         FailedInclude::Unparsed(span, value) => {
-            let mut f = Finding::new(
-                "include",
-                Severity::Error,
-                Label::new(*span, "does not parse"),
-                format!("the included file `{value}` does not parse; {text}"),
-            )
-            .with_help("fix the included file's YAML syntax (its own finding says where)");
+            let mut f = declared::INCLUDE
+                .finding(
+                    *span,
+                    "does not parse",
+                    format!("the included file `{value}` does not parse; {text}"),
+                )
+                .with_help("fix the included file's YAML syntax (its own finding says where)");
             f.values = values;
             out.push(f);
         }

@@ -8,6 +8,7 @@
 
 pub mod analysis;
 pub mod campaign;
+pub mod declared;
 pub mod diff;
 pub mod finding;
 pub mod fingerprint;

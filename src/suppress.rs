@@ -5,7 +5,8 @@
 //! node that starts on a line" is the outermost list item or mapping entry whose first
 //! byte is on that line.
 
-use crate::finding::{Finding, Label, Severity};
+use crate::declared;
+use crate::finding::Finding;
 use crate::source::yaml::{Node, NodeKind};
 use crate::source::{FileId, LineIndex, Span};
 
@@ -104,14 +105,14 @@ pub fn scan(
         };
         let Some(list) = rest.strip_prefix("allow") else {
             findings.push(
-                Finding::new(
-                    "suppression",
-                    Severity::Warning,
-                    Label::new(comment, "not a suppression"),
-                    "a `foldcheck:` comment must read `foldcheck: allow <rule> -- <reason>`",
-                )
-                .with_subject(subject(&covers_path, &[]))
-                .with_help("write `# foldcheck: allow <rule>[, <rule>…] -- <reason>`"),
+                declared::SUPPRESSION
+                    .finding(
+                        comment,
+                        "not a suppression",
+                        "a `foldcheck:` comment must read `foldcheck: allow <rule> -- <reason>`",
+                    )
+                    .with_subject(subject(&covers_path, &[]))
+                    .with_help("write `# foldcheck: allow <rule>[, <rule>…] -- <reason>`"),
             );
             continue;
         };
@@ -187,10 +188,8 @@ pub fn apply(sups: &mut [Suppression], findings: &mut [Finding], out: &mut Vec<F
             .collect();
         if !input.is_empty() {
             out.push(
-                Finding::new(
-                    "suppression",
-                    Severity::Warning,
-                    Label::new(s.comment, "cannot be suppressed"),
+                declared::SUPPRESSION.finding(
+s.comment, "cannot be suppressed",
                     format!(
                         "{} {}, which a comment cannot suppress",
                         input
@@ -220,14 +219,10 @@ pub fn apply(sups: &mut [Suppression], findings: &mut [Finding], out: &mut Vec<F
             .collect();
         if s.rules.is_empty() {
             out.push(
-                Finding::new(
-                    "suppression",
-                    Severity::Warning,
-                    Label::new(s.comment, "names no rule"),
-                    "the suppression names no rule",
-                )
-                .with_subject(subject(&s.covers_path, &s.rules))
-                .with_help("write `# foldcheck: allow <rule> -- <reason>`"),
+                declared::SUPPRESSION
+                    .finding(s.comment, "names no rule", "the suppression names no rule")
+                    .with_subject(subject(&s.covers_path, &s.rules))
+                    .with_help("write `# foldcheck: allow <rule> -- <reason>`"),
             );
             continue;
         }
@@ -236,20 +231,21 @@ pub fn apply(sups: &mut [Suppression], findings: &mut [Finding], out: &mut Vec<F
                 .map(|b| format!("did you mean `{b}`?"))
                 .unwrap_or_else(|| "`foldcheck rules` lists the rules".to_string());
             out.push(
-                Finding::new(
-                    "suppression",
-                    Severity::Warning,
-                    Label::new(s.comment, "unknown rule"),
-                    format!("the suppression names `{u}`, which is not a rule"),
-                )
-                .with_subject(subject(&s.covers_path, &s.rules))
-                .with_help(hint),
+                declared::SUPPRESSION
+                    .finding(
+                        s.comment,
+                        "unknown rule",
+                        format!("the suppression names `{u}`, which is not a rule"),
+                    )
+                    .with_subject(subject(&s.covers_path, &s.rules))
+                    .with_help(hint),
             );
             continue;
         }
         if s.reason.is_empty() {
             out.push(
-                Finding::new("suppression", Severity::Warning, Label::new(s.comment, "no reason"), "the suppression gives no reason")
+                declared::SUPPRESSION.finding(
+s.comment, "no reason", "the suppression gives no reason")
                     .with_subject(subject(&s.covers_path, &s.rules))
                 .with_help("add the reason after `--`, e.g. `-- reviewed with the test lead, band is nominal`"),
             );
@@ -257,16 +253,16 @@ pub fn apply(sups: &mut [Suppression], findings: &mut [Finding], out: &mut Vec<F
         }
         let Some(covers) = s.covers else {
             out.push(
-                Finding::new(
-                    "suppression",
-                    Severity::Warning,
-                    Label::new(s.comment, "covers nothing"),
-                    "the suppression covers no YAML node",
-                )
-                .with_subject(subject(&s.covers_path, &s.rules))
-                .with_help(
-                    "put it on the line above the node, or at the end of the node's first line",
-                ),
+                declared::SUPPRESSION
+                    .finding(
+                        s.comment,
+                        "covers nothing",
+                        "the suppression covers no YAML node",
+                    )
+                    .with_subject(subject(&s.covers_path, &s.rules))
+                    .with_help(
+                        "put it on the line above the node, or at the end of the node's first line",
+                    ),
             );
             continue;
         };
@@ -281,22 +277,22 @@ pub fn apply(sups: &mut [Suppression], findings: &mut [Finding], out: &mut Vec<F
         }
         if !s.used {
             out.push(
-                Finding::new(
-                    "suppression",
-                    Severity::Warning,
-                    Label::new(s.comment, "suppresses nothing"),
-                    format!(
-                        "the suppression of {} suppresses nothing",
-                        s.rules
-                            .iter()
-                            .map(|r| format!("`{r}`"))
-                            .collect::<Vec<_>>()
-                            .join(", ")
-                    ),
-                )
-                .with_label(covers, "covers this")
-                .with_subject(subject(&s.covers_path, &s.rules))
-                .with_help("remove it: the finding it was for is gone"),
+                declared::SUPPRESSION
+                    .finding(
+                        s.comment,
+                        "suppresses nothing",
+                        format!(
+                            "the suppression of {} suppresses nothing",
+                            s.rules
+                                .iter()
+                                .map(|r| format!("`{r}`"))
+                                .collect::<Vec<_>>()
+                                .join(", ")
+                        ),
+                    )
+                    .with_label(covers, "covers this")
+                    .with_subject(subject(&s.covers_path, &s.rules))
+                    .with_help("remove it: the finding it was for is gone"),
             );
         }
     }

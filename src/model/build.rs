@@ -7,7 +7,8 @@
 
 use super::quantity::{self, Exact, Kind};
 use super::*;
-use crate::finding::{Edit, Finding, Fix, Label, Severity};
+use crate::declared;
+use crate::finding::{Edit, Finding, Fix};
 use crate::source::yaml::{Node, NodeKind};
 use crate::source::{FileId, Span};
 
@@ -204,13 +205,9 @@ impl<'a> Builder<'a> {
                     Kind::DataRate => "expected a data rate",
                     Kind::Duration => "expected a duration",
                 };
-                let mut f = Finding::new(
-                    "quantity",
-                    Severity::Error,
-                    Label::new(node.span, label),
-                    e.message,
-                )
-                .with_help_opt(e.help);
+                let mut f = declared::QUANTITY
+                    .finding(node.span, label, e.message)
+                    .with_help_opt(e.help);
                 // A unit in the wrong case has one right spelling: propose that edit
                 // (kept only if verification confirms it). A plain or quoted string
                 // is edited in place; a number's text never holds a unit.
@@ -570,10 +567,8 @@ impl<'a> Builder<'a> {
     fn check_edges(&mut self, passband: Sp<f64>, stopband: Sp<f64>) -> Option<f64> {
         let finding = if stopband.value <= passband.value {
             Some(
-                Finding::new(
-                    "schema",
-                    Severity::Error,
-                    Label::new(stopband.span, "not above the passband edge"),
+                declared::SCHEMA.finding(
+stopband.span, "not above the passband edge",
                     format!(
                         "the stopband edge {} of a `digital` filter is not above its passband edge {}",
                         stopband.value, passband.value
@@ -586,10 +581,8 @@ impl<'a> Builder<'a> {
             && stopband.value * 2.0 >= m as f64
         {
             Some(
-                Finding::new(
-                    "schema",
-                    Severity::Error,
-                    Label::new(stopband.span, "not below half the input rate"),
+                declared::SCHEMA.finding(
+stopband.span, "not below half the input rate",
                     format!(
                         "the stopband edge {} of a `digital` filter is not below half its input rate ({} in units of its output rate)",
                         stopband.value,
@@ -619,16 +612,16 @@ impl<'a> Builder<'a> {
         }
         self.broken = true;
         self.findings.push(
-            Finding::new(
-                "quantity",
-                Severity::Error,
-                Label::new(node.span, "negative"),
-                format!(
-                    "{what} cannot be negative, found `{}`",
-                    self.quantity_text(node).unwrap_or_default().trim()
-                ),
-            )
-            .with_help("a filter cannot answer before its input; write the delay as 0 or more"),
+            declared::QUANTITY
+                .finding(
+                    node.span,
+                    "negative",
+                    format!(
+                        "{what} cannot be negative, found `{}`",
+                        self.quantity_text(node).unwrap_or_default().trim()
+                    ),
+                )
+                .with_help("a filter cannot answer before its input; write the delay as 0 or more"),
         );
         None
     }
@@ -698,17 +691,17 @@ impl<'a> Builder<'a> {
             {
                 self.broken = true;
                 self.findings.push(
-                    Finding::new(
-                        "quantity",
-                        Severity::Error,
-                        Label::new(pair[0].span, "not above the point before it"),
-                        format!(
-                            "table points must rise in frequency, but {} follows {}",
-                            quantity::format_hz(f.value),
-                            quantity::format_hz(prev)
-                        ),
-                    )
-                    .with_help("list the points in order of rising frequency"),
+                    declared::QUANTITY
+                        .finding(
+                            pair[0].span,
+                            "not above the point before it",
+                            format!(
+                                "table points must rise in frequency, but {} follows {}",
+                                quantity::format_hz(f.value),
+                                quantity::format_hz(prev)
+                            ),
+                        )
+                        .with_help("list the points in order of rising frequency"),
                 );
                 return None;
             }

@@ -1,6 +1,7 @@
 //! Shape checking against `schemas/rig.schema.json`, with findings at exact spans.
 
-use crate::finding::{Edit, Finding, Fix, Label, Severity};
+use crate::declared;
+use crate::finding::{Edit, Finding, Fix};
 use crate::source::Span;
 use crate::source::yaml::{Node, NodeKind};
 use jsonschema::error::ValidationErrorKind;
@@ -47,13 +48,9 @@ pub fn check(root: &Node, text: &str) -> Vec<Finding> {
             )
         };
         return vec![
-            Finding::new(
-                "schema",
-                Severity::Error,
-                Label::new(root.span, label),
-                message,
-            )
-            .with_help("start the file with `format: 1` and `rig: <name>`"),
+            declared::SCHEMA
+                .finding(root.span, label, message)
+                .with_help("start the file with `format: 1` and `rig: <name>`"),
         ];
     }
     let instance = root.to_json(text);
@@ -85,13 +82,13 @@ pub fn check(root: &Node, text: &str) -> Vec<Finding> {
             ValidationErrorKind::Required { property } => {
                 let name = property.as_str().unwrap_or("?");
                 let span = key.unwrap_or_else(|| head_span(node));
-                Finding::new(
-                    "schema",
-                    Severity::Error,
-                    Label::new(span, format!("needs `{name}`")),
-                    format!("{what} has no `{name}`"),
-                )
-                .with_help(required_help(&path, name))
+                declared::SCHEMA
+                    .finding(
+                        span,
+                        format!("needs `{name}`"),
+                        format!("{what} has no `{name}`"),
+                    )
+                    .with_help(required_help(&path, name))
             }
             ValidationErrorKind::FalseSchema => {
                 let name = path.last().cloned().unwrap_or_default();
@@ -100,13 +97,13 @@ pub fn check(root: &Node, text: &str) -> Vec<Finding> {
                 } else {
                     at.parent().container()
                 };
-                Finding::new(
-                    "schema",
-                    Severity::Error,
-                    Label::new(key.unwrap_or(node.span), "not allowed here"),
-                    format!("`{name}` is not allowed in {parent}"),
-                )
-                .with_help(false_schema_help(&path))
+                declared::SCHEMA
+                    .finding(
+                        key.unwrap_or(node.span),
+                        "not allowed here",
+                        format!("`{name}` is not allowed in {parent}"),
+                    )
+                    .with_help(false_schema_help(&path))
             }
             ValidationErrorKind::Pattern { .. } => {
                 let value = node.as_str().unwrap_or_default();
@@ -132,13 +129,9 @@ pub fn check(root: &Node, text: &str) -> Vec<Finding> {
                             .unwrap_or_else(|| "see docs/format.md".to_string()),
                     )
                 };
-                Finding::new(
-                    "schema",
-                    Severity::Error,
-                    Label::new(node.span, "not a name"),
-                    message,
-                )
-                .with_help(help)
+                declared::SCHEMA
+                    .finding(node.span, "not a name", message)
+                    .with_help(help)
             }
             ValidationErrorKind::Enum { options } => {
                 let options: Vec<&str> = options
@@ -191,13 +184,9 @@ pub fn check(root: &Node, text: &str) -> Vec<Finding> {
                         at.written(&node_text(node, text))
                     )
                 };
-                Finding::new(
-                    "schema",
-                    Severity::Error,
-                    Label::new(node.span, format!("must be {expected}")),
-                    message,
-                )
-                .with_help(format!("write `{key}: {expected}`"))
+                declared::SCHEMA
+                    .finding(node.span, format!("must be {expected}"), message)
+                    .with_help(format!("write `{key}: {expected}`"))
             }
             ValidationErrorKind::Type { kind } => {
                 let expected: Vec<String> = match kind {
@@ -213,16 +202,16 @@ pub fn check(root: &Node, text: &str) -> Vec<Finding> {
             | ValidationErrorKind::ExclusiveMinimum { .. }
             | ValidationErrorKind::ExclusiveMaximum { .. } => {
                 let range = range_at(&schema_path).unwrap_or_else(|| "out of range".to_string());
-                Finding::new(
-                    "schema",
-                    Severity::Error,
-                    Label::new(node.span, format!("must be {range}")),
-                    format!(
-                        "{} is out of range: it must be {range}",
-                        at.written(&node_text(node, text))
-                    ),
-                )
-                .with_help(range_help(&path, &range))
+                declared::SCHEMA
+                    .finding(
+                        node.span,
+                        format!("must be {range}"),
+                        format!(
+                            "{} is out of range: it must be {range}",
+                            at.written(&node_text(node, text))
+                        ),
+                    )
+                    .with_help(range_help(&path, &range))
             }
             ValidationErrorKind::MinItems { limit } | ValidationErrorKind::MaxItems { limit } => {
                 let n = node.as_seq().map_or(0, <[Node]>::len);
@@ -232,13 +221,9 @@ pub fn check(root: &Node, text: &str) -> Vec<Finding> {
                     "at most"
                 };
                 let (message, help) = items_wording(&at, n, bound, *limit);
-                Finding::new(
-                    "schema",
-                    Severity::Error,
-                    Label::new(node.span, plural_items(n)),
-                    message,
-                )
-                .with_help(help)
+                declared::SCHEMA
+                    .finding(node.span, plural_items(n), message)
+                    .with_help(help)
             }
             ValidationErrorKind::UniqueItems => {
                 let items = node.as_seq().unwrap_or_default();
@@ -252,41 +237,37 @@ pub fn check(root: &Node, text: &str) -> Vec<Finding> {
                     Some(n) => (n.span, node_text(n, text)),
                     None => (node.span, String::new()),
                 };
-                Finding::new(
-                    "schema",
-                    Severity::Error,
-                    Label::new(span, "listed again"),
-                    format!(
-                        "{} lists `{}` more than once",
-                        at.value_noun(),
-                        shown(&value)
-                    ),
-                )
-                .with_help(format!("remove the second `{}`", shown(&value)))
+                declared::SCHEMA
+                    .finding(
+                        span,
+                        "listed again",
+                        format!(
+                            "{} lists `{}` more than once",
+                            at.value_noun(),
+                            shown(&value)
+                        ),
+                    )
+                    .with_help(format!("remove the second `{}`", shown(&value)))
             }
-            ValidationErrorKind::MinLength { .. } => Finding::new(
-                "schema",
-                Severity::Error,
-                Label::new(node.span, "empty"),
-                format!("{} is empty", at.value_noun()),
-            )
-            .with_help("write a path, or remove the entry".to_string()),
+            ValidationErrorKind::MinLength { .. } => declared::SCHEMA
+                .finding(node.span, "empty", format!("{} is empty", at.value_noun()))
+                .with_help("write a path, or remove the entry".to_string()),
             _ => {
                 // Shapes the schema does not use today (oneOf, not, ...): say what the
                 // place is for, in the schema's own description, never the validator's text.
-                Finding::new(
-                    "schema",
-                    Severity::Error,
-                    Label::new(node.span, "not valid here"),
-                    format!(
-                        "{} does not have the shape the rig format expects",
-                        at.value_noun()
-                    ),
-                )
-                .with_help(
-                    description_at(&schema_path)
-                        .unwrap_or_else(|| "see docs/format.md".to_string()),
-                )
+                declared::SCHEMA
+                    .finding(
+                        node.span,
+                        "not valid here",
+                        format!(
+                            "{} does not have the shape the rig format expects",
+                            at.value_noun()
+                        ),
+                    )
+                    .with_help(
+                        description_at(&schema_path)
+                            .unwrap_or_else(|| "see docs/format.md".to_string()),
+                    )
             }
         };
         out.push(finding);
@@ -510,10 +491,8 @@ fn unknown_key(
                 format!("{dotted} {unit}")
             };
             let key = prev_key.key_text(text);
-            return Finding::new(
-                "schema",
-                Severity::Error,
-                Label::new(prev_value.span.join(&key_span), "a decimal comma"),
+            return declared::SCHEMA.finding(
+prev_value.span.join(&key_span), "a decimal comma",
                 format!(
                     "`{key}: {}` has a decimal comma, which ends the entry in a `{{ … }}` mapping",
                     shown(&written)
@@ -561,13 +540,9 @@ fn unknown_key(
             },
         ),
     };
-    Finding::new(
-        "schema",
-        Severity::Error,
-        Label::new(key_span, "unknown key"),
-        message,
-    )
-    .with_help(help)
+    declared::SCHEMA
+        .finding(key_span, "unknown key", message)
+        .with_help(help)
 }
 
 /// What to add for a missing key.
@@ -634,13 +609,9 @@ fn enum_finding(node: &Node, at: &Place, options: &[&str]) -> Finding {
             },
         )
     };
-    Finding::new(
-        "schema",
-        Severity::Error,
-        Label::new(node.span, label),
-        message,
-    )
-    .with_help(help)
+    declared::SCHEMA
+        .finding(node.span, label, message)
+        .with_help(help)
 }
 
 /// "`a`, `b` or `c`".
@@ -718,13 +689,13 @@ fn type_finding(node: &Node, at: &Place, expected: &[String], schema_path: &str)
         (NodeKind::Str(s), [t]) if t == "array" => format!("write `{key}: [{}]`", shown(s)),
         _ => format!("write {wanted}"),
     };
-    Finding::new(
-        "schema",
-        Severity::Error,
-        Label::new(node.span, format!("this is {found}")),
-        format!("{} takes {wanted}, not {found}", at.value_noun()),
-    )
-    .with_help(help)
+    declared::SCHEMA
+        .finding(
+            node.span,
+            format!("this is {found}"),
+            format!("{} takes {wanted}, not {found}", at.value_noun()),
+        )
+        .with_help(help)
 }
 
 /// The range a number must lie in, read from the schema node that holds the bound:

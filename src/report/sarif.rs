@@ -348,12 +348,7 @@ mod tests {
     #[test]
     fn help_becomes_the_second_sentence() {
         let span = crate::source::Span::point(0, 0);
-        let f = Finding::new(
-            "nyquist",
-            Severity::Error,
-            Label::new(span, "x"),
-            "too slow",
-        );
+        let f = crate::declared::NYQUIST.finding(span, "x", "too slow");
         assert_eq!(message_text(&f), "too slow");
         let f = f.with_help("divide by less");
         assert_eq!(message_text(&f), "too slow. divide by less.");

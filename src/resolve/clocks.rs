@@ -2,7 +2,8 @@
 //! rationals (root frequency × multiplies ÷ divides); loops are `clock-cycle` findings.
 
 use super::RClock;
-use crate::finding::{Finding, Label, Severity};
+use crate::declared;
+use crate::finding::Finding;
 use crate::model::quantity::Exact;
 use crate::model::{Clock, ClockDef, Sp};
 use num_traits::{CheckedDiv, CheckedMul};
@@ -68,10 +69,8 @@ pub(super) fn resolve_clocks(
         let names: Vec<&str> = order.iter().map(|&i| defs[i].name.value.as_str()).collect();
         let mut chain = names.join(" → ");
         chain.push_str(&format!(" → {}", names[0]));
-        let mut f = Finding::new(
-            "clock-cycle",
-            Severity::Error,
-            Label::new(source_span(&defs[start]), format!("`{}` takes its rate from `{}`", names[0], defs[order.get(1).copied().unwrap_or(start)].name.value)),
+        let mut f = declared::CLOCK_CYCLE.finding(
+source_span(&defs[start]), format!("`{}` takes its rate from `{}`", names[0], defs[order.get(1).copied().unwrap_or(start)].name.value),
             format!("clocks depend on each other in a loop: {chain}"),
         )
         .with_help("give one clock of the loop a `frequency` (a root oscillator) or point its `source` outside the loop");
@@ -107,10 +106,8 @@ pub(super) fn resolve_clocks(
                         .and_then(|r| r.checked_mul(&m))
                         .and_then(|r| r.checked_div(&d));
                     if clocks[p].rate.is_some() && rate.is_none() {
-                        out.push(Finding::new(
-                            "quantity",
-                            Severity::Error,
-                            Label::new(defs[i].name.span, "rate out of range"),
+                        out.push(declared::QUANTITY.finding(
+defs[i].name.span, "rate out of range",
                             format!(
                                 "the rate of clock `{}` cannot be represented exactly: its fraction outgrows 128 bits",
                                 defs[i].name.value

@@ -6,7 +6,8 @@
 pub mod chain;
 mod clocks;
 
-use crate::finding::{Edit, Finding, Fix, Label, Severity};
+use crate::declared;
+use crate::finding::{Edit, Finding, Fix};
 use crate::model::quantity::{Exact, format_hz, to_f64};
 use crate::model::*;
 use crate::source::{FileId, Span};
@@ -314,20 +315,20 @@ impl<'a> Names<'a> {
             };
             let first = &first;
             out.push(
-                Finding::new(
-                    "duplicate-name",
-                    Severity::Error,
-                    Label::new(again, "defined again here"),
-                    format!(
-                        "the {} name `{}` is defined twice",
-                        self.section, name.value
-                    ),
-                )
-                .with_label(*first, "first defined here")
-                .with_help(format!(
-                    "rename one of them; {} names must be unique across a rig and its includes",
-                    self.section
-                )),
+                declared::DUPLICATE_NAME
+                    .finding(
+                        again,
+                        "defined again here",
+                        format!(
+                            "the {} name `{}` is defined twice",
+                            self.section, name.value
+                        ),
+                    )
+                    .with_label(*first, "first defined here")
+                    .with_help(format!(
+                        "rename one of them; {} names must be unique across a rig and its includes",
+                        self.section
+                    )),
             );
             return false;
         }
@@ -347,10 +348,9 @@ impl<'a> Names<'a> {
             self.deferred.borrow_mut().push(r.span);
             return None;
         }
-        let mut f = Finding::new(
-            "unknown-reference",
-            Severity::Error,
-            Label::new(r.span, format!("no {} of this name", self.section)),
+        let mut f = declared::UNKNOWN_REFERENCE.finding(
+            r.span,
+            format!("no {} of this name", self.section),
             format!(
                 "{what} names the {} `{}`, which is not defined",
                 self.section, r.value
@@ -604,10 +604,8 @@ pub fn resolve_incomplete(
             );
             if rate.is_none() {
                 stages_ok = false;
-                out.push(Finding::new(
-                    "quantity",
-                    Severity::Error,
-                    Label::new(st.factor.span, "rate out of range"),
+                out.push(declared::QUANTITY.finding(
+st.factor.span, "rate out of range",
                     format!("the rate after this decimation stage of `{}` cannot be represented exactly: its fraction outgrows 128 bits", c.name.value),
                 ));
             }
@@ -652,10 +650,8 @@ pub fn resolve_incomplete(
         };
         let ratio = rate / to_f64(&adc);
         out.push(
-            Finding::new(
-                "quantity",
-                Severity::Error,
-                Label::new(md.rate_span(), "not a multiple of the ADC rate"),
+            declared::QUANTITY.finding(
+md.rate_span(), "not a multiple of the ADC rate",
                 format!(
                     "the modulator rate {} of module `{}` is not an integer multiple of the {} ADC rate of {users}",
                     format_hz(rate),

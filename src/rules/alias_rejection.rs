@@ -3,14 +3,15 @@
 use super::rates::{rate_channels, rate_labels, with_fix_or_help};
 use super::{Rule, Stage};
 use crate::analysis::RigAnalysis;
-use crate::finding::{Finding, Label, Severity, format_db, round_to};
+use crate::declared;
+use crate::finding::{Finding, Label, format_db, round_to};
 use crate::model::quantity::format_hz;
 use crate::resolve::Origin;
 
 /// `alias-rejection`.
 pub static ALIAS_REJECTION: Rule = Rule {
-    name: "alias-rejection",
-    severity: Severity::Error,
+    name: declared::ALIAS_REJECTION.name,
+    severity: declared::ALIAS_REJECTION.severity,
     summary: "energy that folds into the band is not attenuated enough",
     explanation: "\
 At a rate change to fs, energy at fs − B (the lowest frequency that folds into [0, B])

@@ -4,7 +4,8 @@
 
 use super::{Rule, Stage};
 use crate::analysis::RigAnalysis;
-use crate::finding::{Finding, Severity};
+use crate::declared;
+use crate::finding::Finding;
 use crate::fingerprint::segment;
 use crate::model::quantity::{format_bytes, to_f64};
 use crate::resolve::Rig;
@@ -12,8 +13,8 @@ use crate::resolve::chain::Chain;
 
 /// `throughput`.
 pub static THROUGHPUT: Rule = Rule {
-    name: "throughput",
-    severity: Severity::Error,
+    name: declared::THROUGHPUT.name,
+    severity: declared::THROUGHPUT.severity,
     summary: "the summed data rate exceeds a module's or the logger's throughput",
     explanation: "\
 Each channel produces final rate × sample-bits ÷ 8 bytes per second (sample-bits: the
@@ -138,8 +139,8 @@ fn check_throughput(a: &RigAnalysis, out: &mut Vec<Finding>) {
 
 /// `storage`.
 pub static STORAGE: Rule = Rule {
-    name: "storage",
-    severity: Severity::Error,
+    name: declared::STORAGE.name,
+    severity: declared::STORAGE.severity,
     summary: "the recording does not fit the logger's storage",
     explanation: "\
 The logger records every channel for `duration`: the rig's summed data rate × duration

@@ -2,14 +2,15 @@
 
 use super::{Rule, Stage};
 use crate::analysis::RigAnalysis;
-use crate::finding::{Finding, Severity};
+use crate::declared;
+use crate::finding::Finding;
 use crate::model::Response;
 use crate::source::Span;
 
 /// `modulator-unknown`.
 pub static MODULATOR_UNKNOWN: Rule = Rule {
-    name: "modulator-unknown",
-    severity: Severity::Note,
+    name: declared::MODULATOR_UNKNOWN.name,
+    severity: declared::MODULATOR_UNKNOWN.severity,
     summary: "a digital filter sits at the ADC of a module that does not describe its modulator",
     explanation: "\
 A `digital` filter in the `filters` of a channel on a module (not in a `decimate` stage) is

@@ -3,14 +3,15 @@
 use super::rates::{rate_channels, rate_labels, with_fix_or_help};
 use super::{Rule, Stage};
 use crate::analysis::RigAnalysis;
-use crate::finding::{Finding, Label, Severity, format_db, round_to};
+use crate::declared;
+use crate::finding::{Finding, Label, format_db, round_to};
 use crate::fingerprint::segment;
 use crate::model::quantity::{format_hz, sig6};
 
 /// `disturbance-alias`.
 pub static DISTURBANCE_ALIAS: Rule = Rule {
-    name: "disturbance-alias",
-    severity: Severity::Error,
+    name: declared::DISTURBANCE_ALIAS.name,
+    severity: declared::DISTURBANCE_ALIAS.severity,
     summary: "a known disturbance tone folds into the band without enough attenuation",
     explanation: "\
 A disturbance is a tone known to be on the rig (a drive's PWM frequency, a rotating

@@ -2,7 +2,8 @@
 
 use super::{Rule, Stage};
 use crate::analysis::RigAnalysis;
-use crate::finding::{Finding, Severity, round_to};
+use crate::declared;
+use crate::finding::{Finding, round_to};
 use crate::fingerprint::segment;
 use crate::model::quantity::{format_hz, format_seconds, sig6, to_f64};
 use crate::model::{Filter, Group, Response};
@@ -12,8 +13,8 @@ use crate::source::Span;
 
 /// `group-clock`.
 pub static GROUP_CLOCK: Rule = Rule {
-    name: "group-clock",
-    severity: Severity::Error,
+    name: declared::GROUP_CLOCK.name,
+    severity: declared::GROUP_CLOCK.severity,
     summary: "members of a group do not share one root clock, or end at different rates",
     explanation: "\
 Channels analysed together (transfer functions, coherence, phase) must be sampled
@@ -143,8 +144,8 @@ fn member_span(g: &Group, name: &str) -> Span {
 
 /// `group-phase`.
 pub static GROUP_PHASE: Rule = Rule {
-    name: "group-phase",
-    severity: Severity::Warning,
+    name: declared::GROUP_PHASE.name,
+    severity: declared::GROUP_PHASE.severity,
     summary: "two members of a group differ in chain phase by more than the tolerance",
     explanation: "\
 Different anti-alias filters and different digital stages delay signals differently.
@@ -376,8 +377,8 @@ fn phase_finding(
 
 /// `group-incomplete`.
 pub static GROUP_INCOMPLETE: Rule = Rule {
-    name: "group-incomplete",
-    severity: Severity::Note,
+    name: declared::GROUP_INCOMPLETE.name,
+    severity: declared::GROUP_INCOMPLETE.severity,
     summary: "the phase comparison of two group members leaves out a delay or a table response",
     explanation: "\
 `group-phase` compares two members' phase over their common band, including the delay of

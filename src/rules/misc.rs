@@ -4,14 +4,15 @@
 use super::rates::{clock_labels, rate_channels};
 use super::{Rule, Stage};
 use crate::analysis::{ModuleLimit, RigAnalysis};
-use crate::finding::{Finding, Label, Severity, format_db, round_to};
+use crate::declared;
+use crate::finding::{Finding, Label, format_db, round_to};
 use crate::fingerprint::segment;
 use crate::model::quantity::{format_hz, sig6, to_f64};
 
 /// `module-rate`.
 pub static MODULE_RATE: Rule = Rule {
-    name: "module-rate",
-    severity: Severity::Error,
+    name: declared::MODULE_RATE.name,
+    severity: declared::MODULE_RATE.severity,
     summary: "a channel's ADC rate is above its module's max-rate or not one of its rates",
     explanation: "\
 A module (acquisition card) supports a highest ADC rate (`max-rate`) and sometimes only a
@@ -131,8 +132,8 @@ fn check_module_rate(a: &RigAnalysis, out: &mut Vec<Finding>) {
 
 /// `missing-band`.
 pub static MISSING_BAND: Rule = Rule {
-    name: "missing-band",
-    severity: Severity::Error,
+    name: declared::MISSING_BAND.name,
+    severity: declared::MISSING_BAND.severity,
     summary: "a channel has no band and no sensor bandwidth",
     explanation: "\
 Every check of a channel starts from its band B, the highest frequency of interest. It is
@@ -200,8 +201,8 @@ fn check_missing_band(a: &RigAnalysis, out: &mut Vec<Finding>) {
 
 /// `passband-droop`.
 pub static PASSBAND_DROOP: Rule = Rule {
-    name: "passband-droop",
-    severity: Severity::Warning,
+    name: declared::PASSBAND_DROOP.name,
+    severity: declared::PASSBAND_DROOP.severity,
     summary: "the chain attenuates the band edge by more than the passband tolerance",
     explanation: "\
 An anti-alias filter whose cutoff sits too close to the band edge attenuates the very
@@ -294,8 +295,8 @@ fn check_droop(a: &RigAnalysis, out: &mut Vec<Finding>) {
 
 /// `sensor-band`.
 pub static SENSOR_BAND: Rule = Rule {
-    name: "sensor-band",
-    severity: Severity::Warning,
+    name: declared::SENSOR_BAND.name,
+    severity: declared::SENSOR_BAND.severity,
     summary: "the channel's band is above its sensor's bandwidth",
     explanation: "\
 A sensor measures usefully only up to its `bandwidth`. A channel band above it records
@@ -379,8 +380,8 @@ fn check_sensor_band(a: &RigAnalysis, out: &mut Vec<Finding>) {
 
 /// `oversampling`.
 pub static OVERSAMPLING: Rule = Rule {
-    name: "oversampling",
-    severity: Severity::Note,
+    name: declared::OVERSAMPLING.name,
+    severity: declared::OVERSAMPLING.severity,
     summary: "the final rate is far above what the band needs",
     explanation: "\
 A final rate far above the band spends storage and throughput on frequencies nobody
@@ -467,8 +468,8 @@ fn check_oversampling(a: &RigAnalysis, out: &mut Vec<Finding>) {
 
 /// `unused-clock`.
 pub static UNUSED_CLOCK: Rule = Rule {
-    name: "unused-clock",
-    severity: Severity::Note,
+    name: declared::UNUSED_CLOCK.name,
+    severity: declared::UNUSED_CLOCK.severity,
     summary: "a clock drives no channel, directly or through derived clocks",
     explanation: "\
 A clock that no channel samples on, directly or through clocks derived from it, is dead

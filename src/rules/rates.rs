@@ -3,15 +3,16 @@
 use super::{Rule, Stage};
 use crate::analysis::RigAnalysis;
 use crate::analysis::{ChannelAnalysis, RateAnalysis, StageInfo};
-use crate::finding::{Finding, Fix, Label, Severity, round_to};
+use crate::declared;
+use crate::finding::{Finding, Fix, Label, round_to};
 use crate::model::ClockDef;
 use crate::model::quantity::{format_hz, sig6, to_f64};
 use crate::resolve::{RChannel, Rig};
 
 /// `nyquist`.
 pub static NYQUIST: Rule = Rule {
-    name: "nyquist",
-    severity: Severity::Error,
+    name: declared::NYQUIST.name,
+    severity: declared::NYQUIST.severity,
     summary: "a rate change samples at or below twice the channel's band",
     explanation: "\
 The sampling theorem (C. E. Shannon, 1949) needs the sample rate to be above twice the
@@ -56,8 +57,8 @@ channels:
 
 /// `sampling-margin`.
 pub static SAMPLING_MARGIN: Rule = Rule {
-    name: "sampling-margin",
-    severity: Severity::Warning,
+    name: declared::SAMPLING_MARGIN.name,
+    severity: declared::SAMPLING_MARGIN.severity,
     summary: "a rate change is above twice the band but below the practical margin",
     explanation: "\
 Above twice the band is the theoretical minimum; practice (common practice, no single

@@ -2,12 +2,12 @@
 //! describe them; the stage named in each emits them.
 
 use super::{Rule, Stage};
-use crate::finding::Severity;
+use crate::declared;
 
 /// `yaml-syntax`.
 pub static YAML_SYNTAX: Rule = Rule {
-    name: "yaml-syntax",
-    severity: Severity::Error,
+    name: declared::YAML_SYNTAX.name,
+    severity: declared::YAML_SYNTAX.severity,
     summary: "the file is not valid YAML (including duplicate keys)",
     explanation: "\
 The file must be one valid YAML document in UTF-8. Duplicate keys in a mapping, tabs used
@@ -29,8 +29,8 @@ rig: demo
 
 /// `schema`.
 pub static SCHEMA: Rule = Rule {
-    name: "schema",
-    severity: Severity::Error,
+    name: declared::SCHEMA.name,
+    severity: declared::SCHEMA.severity,
     summary: "the document breaks the rig schema (wrong type, unknown or missing key)",
     explanation: "\
 Every document is checked against the rig format's JSON Schema (`foldcheck schema` prints
@@ -66,8 +66,8 @@ channels:
 
 /// `quantity`.
 pub static QUANTITY: Rule = Rule {
-    name: "quantity",
-    severity: Severity::Error,
+    name: declared::QUANTITY.name,
+    severity: declared::QUANTITY.severity,
     summary: "a quantity does not parse, has the wrong kind of unit, or is out of range",
     explanation: "\
 A quantity is a number with an optional space and a unit. Units are case-sensitive SI
@@ -107,8 +107,8 @@ channels:
 
 /// `duplicate-name`.
 pub static DUPLICATE_NAME: Rule = Rule {
-    name: "duplicate-name",
-    severity: Severity::Error,
+    name: declared::DUPLICATE_NAME.name,
+    severity: declared::DUPLICATE_NAME.severity,
     summary: "a name is defined twice (both places labelled)",
     explanation: "\
 Names are unique within their section (clocks, sensors, modules, channels, groups,
@@ -156,8 +156,8 @@ channels:
 
 /// `unknown-reference`.
 pub static UNKNOWN_REFERENCE: Rule = Rule {
-    name: "unknown-reference",
-    severity: Severity::Error,
+    name: declared::UNKNOWN_REFERENCE.name,
+    severity: declared::UNKNOWN_REFERENCE.severity,
     summary: "a reference names nothing; help suggests the closest existing name",
     explanation: "\
 A channel's `clock`, `sensor` and `module`, a clock's `source`, and the members of groups
@@ -196,8 +196,8 @@ channels:
 
 /// `include`.
 pub static INCLUDE: Rule = Rule {
-    name: "include",
-    severity: Severity::Error,
+    name: declared::INCLUDE.name,
+    severity: declared::INCLUDE.severity,
     summary: "an include is missing, unreadable, cyclic, outside the campaign root, or holds channels",
     explanation: "\
 A rig's `include` list names catalog files (shared clocks, sensors and modules) by paths
@@ -221,8 +221,8 @@ rig: demo
 
 /// `clock-cycle`.
 pub static CLOCK_CYCLE: Rule = Rule {
-    name: "clock-cycle",
-    severity: Severity::Error,
+    name: declared::CLOCK_CYCLE.name,
+    severity: declared::CLOCK_CYCLE.severity,
     summary: "clocks depend on each other in a loop (the loop is listed in order)",
     explanation: "\
 Every derived clock takes its rate from its `source`. Following sources must end at a
@@ -247,8 +247,8 @@ rig: demo
 
 /// `suppression`.
 pub static SUPPRESSION: Rule = Rule {
-    name: "suppression",
-    severity: Severity::Warning,
+    name: declared::SUPPRESSION.name,
+    severity: declared::SUPPRESSION.severity,
     summary: "a suppression comment has no reason, names an unknown rule, or suppresses nothing",
     explanation: "\
 `# foldcheck: allow <rule>[, <rule>…] -- <reason>` on a line of its own covers the YAML

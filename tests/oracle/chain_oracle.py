@@ -29,6 +29,19 @@ from DC on a dense grid of the common band):
 - the latency difference `delay_difference_s`: digital delays plus the analog group
   delay at DC, Σ −Re(p)/|p|² over scipy's poles (1e-12 s).
 
+It also runs `foldcheck check --format json` on the channels' rig and recomputes which
+rate findings each channel must get, with the thresholds of docs/model.md compared
+exactly (fractions) where they meet a rate:
+- `nyquist` at the first rate change with fs ≤ 2B,
+- `sampling-margin` at the first rate change before that with fs < 2.5·B (common
+  practice, the built-in margin),
+- `alias-rejection` when, at a checked rate change, the attenuation at fs − B is below
+  the built-in 40 dB (reported at the worst rate change),
+- `passband-droop` when the chain attenuates B by more than 0.5 dB (whatever nyquist
+  says),
+- `oversampling` when the final rate exceeds 20·B.
+A verdict within 0.01 dB of its threshold is not compared (float noise on both sides).
+
 Usage: chain_oracle.py PATH/TO/foldcheck [--channels N] [--groups G] [--seed S]
 Exits 1 on any mismatch (0.01 dB, 0.1 deg, exact rates).
 """
@@ -258,6 +271,56 @@ def check_groups(binary, pairs, tmp, failures):
     return checked
 
 
+RATE_RULES = ["nyquist", "sampling-margin", "alias-rejection", "passband-droop", "oversampling"]
+REQUIRED_DB = 40.0       # built-in required rejection (docs/model.md)
+MARGIN = Fraction(5, 2)  # built-in margin, common practice
+TOLERANCE_DB = 0.5       # built-in passband tolerance
+LIMIT = 20               # built-in oversampling limit
+NEAR_DB = 0.01
+
+
+def expected_findings(c):
+    """The rate findings a channel must get: {rule: stage or None}, and the rules too
+    close to their threshold to compare."""
+    chain = c["filters"] + ([c["sensor"]] if c["sensor"] else [])
+    band = Fraction(str(c["band"]))
+    rates = [c["fs"]]
+    if c["stage"]:
+        rates.append(c["fs"] / c["stage"][0])
+    expected, unsure = {}, set()
+    nyq = next((k for k, fs in enumerate(rates) if fs <= 2 * band), None)
+    if nyq is not None:
+        expected["nyquist"] = nyq
+    checked = rates if nyq is None else rates[:nyq]
+    margin = next((k for k, fs in enumerate(checked) if fs < MARGIN * band), None)
+    if margin is not None:
+        expected["sampling-margin"] = margin
+    worst = None
+    for k, fs in enumerate(checked):
+        f = float(fs - band)
+        a = attenuation_db(chain, f)
+        if k == 1:
+            m, n = c["stage"]
+            a += cic_db(n, m, float(c["fs"]), f)
+        if abs(a - REQUIRED_DB) < NEAR_DB:
+            unsure.add("alias-rejection")
+        if a < REQUIRED_DB and (worst is None or a < worst[1]):
+            worst = (k, a)
+    if worst is not None:
+        expected["alias-rejection"] = worst[0]
+    droop = attenuation_db(chain, float(band))
+    if c["stage"]:
+        m, n = c["stage"]
+        droop += cic_db(n, m, float(c["fs"]), float(band))
+    if abs(droop - TOLERANCE_DB) < NEAR_DB:
+        unsure.add("passband-droop")
+    if droop > TOLERANCE_DB:
+        expected["passband-droop"] = None
+    if rates[-1] > LIMIT * band:
+        expected["oversampling"] = None
+    return expected, unsure
+
+
 def main():
     ap = argparse.ArgumentParser()
     ap.add_argument("binary")
@@ -269,11 +332,34 @@ def main():
     channels = [make_channel(rng, i) for i in range(args.channels)]
     pairs = [make_pair(rng, i) for i in range(args.groups)]
     failures = []
-    counts = {"adc alias": 0, "stage alias": 0}
+    counts = {"adc alias": 0, "stage alias": 0, "findings": 0, "compared": 0}
     with tempfile.TemporaryDirectory() as tmp:
         path = os.path.join(tmp, "oracle.rig.yaml")
         with open(path, "w") as f:
             f.write(rig_text(channels))
+        out = subprocess.run([args.binary, "check", path, "--format", "json"],
+                             capture_output=True, text=True, check=False)
+        if out.returncode not in (0, 1):
+            failures.append(f"check: exit {out.returncode}: {out.stderr.strip()}")
+            reported = {}
+        else:
+            reported = {}
+            for f in json.loads(out.stdout)["findings"]:
+                if f["rule"] in RATE_RULES and f.get("channel"):
+                    reported.setdefault(f["channel"], {})[f["rule"]] = f["values"].get("stage")
+        for c in channels:
+            expected, unsure = expected_findings(c)
+            got = reported.get(c["name"], {})
+            counts["findings"] += len(expected)
+            for rule in RATE_RULES:
+                if rule in unsure:
+                    continue
+                counts["compared"] += 1
+                if (rule in expected) != (rule in got):
+                    failures.append(f"{c['name']}: `{rule}`: check {'reports' if rule in got else 'does not report'} it, "
+                                    f"the reference {'expects' if rule in expected else 'does not'}")
+                elif rule in expected and expected[rule] is not None and got[rule] != expected[rule]:
+                    failures.append(f"{c['name']}: `{rule}` at stage {got[rule]}, the reference says {expected[rule]}")
         for c in channels:
             out = subprocess.run([args.binary, "inspect", path, c["name"], "--format", "json"],
                                  capture_output=True, text=True, check=False)
@@ -329,9 +415,10 @@ def main():
         groups_checked = check_groups(args.binary, pairs, tmp, failures)
     print(f"{groups_checked} group pairs checked (phase over the common band with digital delays, latency difference)")
     print(f"{len(channels)} channels checked against scipy {__import__('scipy').__version__} "
-          f"({counts['adc alias']} ADC folds, {counts['stage alias']} decimation-stage folds): "
+          f"({counts['adc alias']} ADC folds, {counts['stage alias']} decimation-stage folds; "
+          f"{counts['compared']} rule verdicts of `check` compared, {counts['findings']} findings expected): "
           f"{len(failures)} mismatches")
-    if counts["adc alias"] == 0 or counts["stage alias"] == 0:
+    if counts["adc alias"] == 0 or counts["stage alias"] == 0 or counts["findings"] < 20:
         print("  the random rigs exercised too little: change the seed or the channel count")
         failures.append("coverage")
     for f in failures[:40]:
