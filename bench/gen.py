@@ -185,13 +185,58 @@ def campaign(root: str, channels: int, per_rig: int) -> None:
             f.write(rig_text(i, n, rng))
 
 
+def shape_campaign(root: str, heavy: bool, rigs: int = 40, per_rig: int = 500) -> None:
+    """The campaign of the fix-search measurement: `rigs` rigs of `per_rig` channels,
+    one shared catalog of six clocks and twenty sensors, Butterworth anti-alias filters
+    of order 2-8 with their cutoff at 1.2 x the band, 40 dB required, bands 100 Hz-5 kHz.
+    `heavy`: each channel samples on one of the six clocks (3.2-102.4 kHz) at random, so
+    most channels fail a rate rule and the fix search runs; otherwise each channel takes
+    the slowest clock that gives it 12 x its band (a clean twin of the same size)."""
+    clocks = [3200, 6400, 12800, 25600, 51200, 102400]
+    if os.path.isdir(root):
+        shutil.rmtree(root)
+    os.makedirs(os.path.join(root, "catalog"))
+    os.makedirs(os.path.join(root, "rigs"))
+    lines = ["format: 1", "catalog: shape-hall", "clocks:", "  - { name: shape-osc, frequency: 24.576 MHz }"]
+    for hz in clocks:
+        lines.append(f"  - {{ name: clk-{hz}, source: shape-osc, divide: {24_576_000 // hz} }}")
+    lines.append("sensors:")
+    for k in range(20):
+        lines.append(f"  - {{ name: sens-{k:02d}, bandwidth: 20 kHz }}")
+    with open(os.path.join(root, "catalog", "shape-hall.yaml"), "w") as f:
+        f.write("\n".join(lines) + "\n")
+    for i in range(rigs):
+        rng = random.Random(1000 + i)
+        out = [f"format: 1", f"rig: shape-{i:03d}", "include: [../catalog/shape-hall.yaml]",
+               "defaults: { alias-rejection: 40 dB }", "channels:"]
+        for c in range(per_rig):
+            band = rng.randint(100, 5000)
+            order = rng.randint(2, 8)
+            if heavy:
+                clock = rng.choice(clocks)
+            else:
+                clock = next((hz for hz in clocks if hz >= 12 * band), clocks[-1])
+            out.append(
+                f"  - {{ name: ch-{c:03d}, clock: clk-{clock}, sensor: sens-{rng.randrange(20):02d}, "
+                f"band: {band} Hz, filters: [{{ response: butterworth, order: {order}, cutoff: {round(1.2 * band)} Hz }}] }}"
+            )
+        with open(os.path.join(root, "rigs", f"s-{i:03d}.rig.yaml"), "w") as f:
+            f.write("\n".join(out) + "\n")
+
+
 def main() -> None:
     here = os.path.dirname(os.path.abspath(__file__))
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--out", default=os.path.join(here, "out"))
     ap.add_argument("--sizes", default="1k,10k,100k,1M")
     ap.add_argument("--single", default="100k", help="channels of the single-file rig ('' for none)")
+    ap.add_argument("--shape", action="store_true",
+                    help="also write shape-clean/ and shape-heavy/ (40 rigs x 500 channels: clean vs findings-heavy)")
     args = ap.parse_args()
+    if args.shape:
+        for name, heavy in (("shape-clean", False), ("shape-heavy", True)):
+            shape_campaign(os.path.join(args.out, name), heavy)
+            print(f"{os.path.join(args.out, name)}: 20000 channels in 40 rig files")
     os.makedirs(args.out, exist_ok=True)
     for s in filter(None, args.sizes.split(",")):
         n = parse_size(s)
