@@ -2,7 +2,7 @@
 //! or a clear error (exit 2), quickly, and never with a panic, an abort or a stack
 //! overflow.
 //!
-//! The wall-clock bound is a hang guard only (5 s, generous for a debug build on a busy
+//! The wall-clock bound is a hang guard only (30 s, generous for a debug build on a busy
 //! machine), not a performance claim: performance is measured by `bench/run.sh`.
 
 use serde_json::Value;
@@ -11,7 +11,7 @@ use std::process::{Command, Output};
 use std::time::{Duration, Instant};
 
 const BIN: &str = env!("CARGO_BIN_EXE_foldcheck");
-const HANG_GUARD: Duration = Duration::from_secs(5);
+const HANG_GUARD: Duration = Duration::from_secs(30);
 
 /// A fresh, empty directory for one test.
 fn scratch(name: &str) -> PathBuf {
