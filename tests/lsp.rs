@@ -335,7 +335,7 @@ fn a_session_from_initialize_to_exit() {
             "severity": 3,
             "code": "oversampling",
             "source": "foldcheck",
-            "message": "`mic-left` ends at 96 kHz, 24× its 4 kHz band (the limit is 20×)\nhelp: decimate (with a filter) by 2 to 9, or divide the clock down: a final rate of 80 kHz or less is within the limit",
+            "message": "`mic-left` ends at 96 kHz, 24× its 4 kHz band (the limit is 20×)\nhelp: decimate (with a filter) by a factor from 2 to 9, or divide the clock down: a final rate of 80 kHz or less is within the limit",
             "relatedInformation": [{
                 "location": { "uri": rig, "range": range(14, 10, 14, 15) },
                 "message": "band 4 kHz"

@@ -97,11 +97,22 @@ fn check(a: &RigAnalysis, out: &mut Vec<Finding>) {
         match (&ch.filters_span, w.stage) {
             (Some((span, _)), 0) if !ch.filters.is_empty() => f.secondary.push(Label::new(
                 *span,
-                format!(
-                    "this chain gives {} at {}",
-                    format_db(w.attenuation_db),
-                    format_hz(w.fold_from_hz)
-                ),
+                match w.resonance {
+                    // The net figure is the chain's attenuation less the resonance gain:
+                    // name both, so that neither is read as the other.
+                    Some((_, gain)) => format!(
+                        "the chain gives {} at {}; less the sensor's {} dB resonance, {}",
+                        format_db(w.attenuation_db + gain),
+                        format_hz(w.fold_from_hz),
+                        crate::model::quantity::sig6(gain),
+                        format_db(w.attenuation_db)
+                    ),
+                    None => format!(
+                        "the chain gives {} at {}",
+                        format_db(w.attenuation_db),
+                        format_hz(w.fold_from_hz)
+                    ),
+                },
             )),
             (Some((span, _)), 0) => f.secondary.push(Label::new(
                 *span,

@@ -456,7 +456,12 @@ fn check_oversampling(a: &RigAnalysis, out: &mut Vec<Finding>) {
         }
         out.push(
             f.with_help(format!(
-                "decimate (with a filter) by {least} to {most}, or divide the clock down: a final rate of {} or less is within the limit",
+                "decimate (with a filter) by {}, or divide the clock down: a final rate of {} or less is within the limit",
+                if least == most {
+                    format!("a factor of {least}")
+                } else {
+                    format!("a factor from {least} to {most}")
+                },
                 format_hz(target)
             ))
             .with_f64("rate_hz", fs)
