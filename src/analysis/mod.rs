@@ -590,6 +590,9 @@ pub struct StageInfo {
     /// Where the sensor resonance goes at this rate change (None without one, or when
     /// `alias-rejection` is off).
     pub resonance: Option<ResonanceCheck>,
+    /// At the ADC of a delta-sigma converter: the modulator rate and the check of its
+    /// worst image against the analog chain alone (docs/model.md §4).
+    pub modulator: Option<(f64, AliasCheck)>,
 }
 
 impl StageInfo {
@@ -611,7 +614,8 @@ impl StageInfo {
 /// The check at the lowest folding frequency of one rate change.
 #[derive(Clone, Debug)]
 pub struct AliasCheck {
-    /// fs − B, Hz.
+    /// The least attenuated frequency of the image bands (fs − B for a chain that keeps
+    /// rising), Hz.
     pub fold_from_hz: f64,
     /// Attenuation of the chain up to this rate change there, dB (may be infinite).
     pub attenuation_db: f64,
@@ -747,6 +751,8 @@ pub struct AliasFailure {
     pub required_db: f64,
     /// The resonance (frequency, gain) when that is the worst case.
     pub resonance: Option<(f64, f64)>,
+    /// The modulator rate when a modulator image is the worst case.
+    pub modulator_hz: Option<f64>,
 }
 
 impl RateAnalysis {
@@ -772,10 +778,22 @@ impl RateAnalysis {
                 cands.push(AliasFailure {
                     stage: s.stage,
                     fold_from_hz: a.fold_from_hz,
-                    folds_to_hz: self.band_hz,
+                    folds_to_hz: crate::signal::fold::fold(a.fold_from_hz, s.rate_hz()),
                     attenuation_db: a.attenuation_db,
                     required_db: a.required_db,
                     resonance: None,
+                    modulator_hz: None,
+                });
+            }
+            if let Some((fmod, a)) = s.modulator.as_ref().filter(|m| !m.1.pass) {
+                cands.push(AliasFailure {
+                    stage: s.stage,
+                    fold_from_hz: a.fold_from_hz,
+                    folds_to_hz: crate::signal::fold::fold(a.fold_from_hz, s.rate_hz()),
+                    attenuation_db: a.attenuation_db,
+                    required_db: a.required_db,
+                    resonance: None,
+                    modulator_hz: Some(*fmod),
                 });
             }
             if let Some(r) = s.resonance.as_ref().filter(|r| r.pass == Some(false)) {
@@ -786,6 +804,7 @@ impl RateAnalysis {
                     attenuation_db: r.net_db,
                     required_db: r.required_db,
                     resonance: Some((r.frequency_hz, r.gain_db)),
+                    modulator_hz: None,
                 });
             }
             for c in cands {
@@ -809,10 +828,20 @@ impl RateAnalysis {
             let edge = s.alias.as_ref().map(|a| AliasFailure {
                 stage: s.stage,
                 fold_from_hz: a.fold_from_hz,
-                folds_to_hz: self.band_hz,
+                folds_to_hz: crate::signal::fold::fold(a.fold_from_hz, s.rate_hz()),
                 attenuation_db: a.attenuation_db,
                 required_db: a.required_db,
                 resonance: None,
+                modulator_hz: None,
+            });
+            let modulator = s.modulator.as_ref().map(|(fmod, a)| AliasFailure {
+                stage: s.stage,
+                fold_from_hz: a.fold_from_hz,
+                folds_to_hz: crate::signal::fold::fold(a.fold_from_hz, s.rate_hz()),
+                attenuation_db: a.attenuation_db,
+                required_db: a.required_db,
+                resonance: None,
+                modulator_hz: Some(*fmod),
             });
             let res = s
                 .resonance
@@ -825,8 +854,9 @@ impl RateAnalysis {
                     attenuation_db: r.net_db,
                     required_db: r.required_db,
                     resonance: Some((r.frequency_hz, r.gain_db)),
+                    modulator_hz: None,
                 });
-            for c in edge.into_iter().chain(res) {
+            for c in edge.into_iter().chain(res).chain(modulator) {
                 if worst
                     .as_ref()
                     .is_none_or(|w| c.attenuation_db < w.attenuation_db)
@@ -928,8 +958,8 @@ pub fn analyse_rates(
         });
         let alias_on = enabled.has(RateRule::AliasRejection);
         let alias = (alias_on && checked && nyquist_ok).then(|| {
-            let f = fs - band_hz;
-            let a = chain.attenuation_db(f, k);
+            // The worst point of every image band, not only fs − B (docs/model.md §3).
+            let (f, a) = chain.worst_image(k, band_hz);
             AliasCheck {
                 fold_from_hz: f,
                 attenuation_db: a,
@@ -974,6 +1004,22 @@ pub fn analyse_rates(
             checked,
             alias,
             resonance: res,
+            modulator: (alias_on && checked && nyquist_ok && k == 0)
+                .then(|| {
+                    let fmod = chain.modulator_rate_hz()?;
+                    let (f, a) = chain.worst_modulator_image(band_hz)?;
+                    Some((
+                        fmod,
+                        AliasCheck {
+                            fold_from_hz: f,
+                            attenuation_db: a,
+                            contributions: contributions(f, 0),
+                            required_db: required,
+                            pass: a >= required,
+                        },
+                    ))
+                })
+                .flatten(),
         });
         if !nyquist_ok {
             nyquist_failed = true;

@@ -4,7 +4,7 @@ use super::rates::{rate_channels, rate_labels, with_fix_or_help};
 use super::{Rule, Stage};
 use crate::analysis::RigAnalysis;
 use crate::declared;
-use crate::finding::{Finding, Label, format_db, round_to};
+use crate::finding::{Finding, Label, format_db, format_required_db, round_to};
 use crate::model::quantity::format_hz;
 use crate::resolve::Origin;
 
@@ -69,21 +69,29 @@ fn check(a: &RigAnalysis, out: &mut Vec<Finding>) {
                 format_hz(st.rate_hz())
             )
         };
-        let message = match w.resonance {
-            None => format!(
+        let message = match (w.resonance, w.modulator_hz) {
+            (None, Some(fmod)) => format!(
+                "energy at {} near the {} modulator rate folds into the {} band of `{name}` {at}; the converter's filter repeats there, and the analog chain gives only {}, {} needed",
+                format_hz(w.fold_from_hz),
+                format_hz(fmod),
+                format_hz(band),
+                format_db(w.attenuation_db),
+                format_required_db(required)
+            ),
+            (None, None) => format!(
                 "energy at {} folds into the {} band of `{name}` {at} with {} of attenuation, {} needed",
                 format_hz(w.fold_from_hz),
                 format_hz(band),
                 format_db(w.attenuation_db),
-                format_db(required)
+                format_required_db(required)
             ),
-            Some((fr, gain)) => format!(
+            (Some((fr, gain)), _) => format!(
                 "the {} resonance (+{} dB) of `{name}`'s sensor folds to {} {at} with a net {} of attenuation, {} needed",
                 format_hz(fr),
                 crate::model::quantity::sig6(gain),
                 format_hz(w.folds_to_hz),
                 format_db(w.attenuation_db),
-                format_db(required)
+                format_required_db(required)
             ),
         };
         let primary = format!(
@@ -155,11 +163,23 @@ fn check(a: &RigAnalysis, out: &mut Vec<Finding>) {
             ),
             _ => None,
         };
-        let fallback = format!(
-            "attenuate {} by another {} before this rate change (a steeper or lower anti-alias filter), or sample faster",
-            format_hz(w.fold_from_hz),
-            format_db(required - w.attenuation_db)
-        );
+        let fallback = match w.modulator_hz {
+            Some(_) => format!(
+                "attenuate {} by another {} in the analog chain before the converter (a steeper or lower analog filter, e.g. one more Butterworth order); the converter's own filter does not help there",
+                format_hz(w.fold_from_hz),
+                format_db(required - w.attenuation_db)
+            ),
+            None => format!(
+                "attenuate {} by another {} before this rate change (a steeper or lower anti-alias filter), or sample faster",
+                format_hz(w.fold_from_hz),
+                format_db(required - w.attenuation_db)
+            ),
+        };
+        if let Some(fmod) = w.modulator_hz {
+            f = f
+                .with_value("at", "modulator")
+                .with_f64("modulator_hz", fmod);
+        }
         f = with_fix_or_help(f, c, Some(fallback), origin)
             .with_f64("rate_hz", st.rate_hz())
             .with_f64("band_hz", band)

@@ -80,6 +80,16 @@ def attenuation_db(filters, f):
     return total
 
 
+def attenuation_vec(filters, f):
+    """Attenuation (dB) of a chain of analog filters at an array of frequencies."""
+    total = np.zeros_like(f)
+    for kind, order, cutoff, ripple in filters:
+        b, a = analog_ba(kind, order, cutoff, ripple)
+        _, h = signal.freqs(b, a, worN=2 * math.pi * f)
+        total += -20 * np.log10(np.abs(h))
+    return total
+
+
 def phase_deg(filters, f):
     total = 0.0
     for kind, order, cutoff, ripple in filters:
@@ -332,7 +342,7 @@ def main():
     channels = [make_channel(rng, i) for i in range(args.channels)]
     pairs = [make_pair(rng, i) for i in range(args.groups)]
     failures = []
-    counts = {"adc alias": 0, "stage alias": 0, "findings": 0, "compared": 0}
+    counts = {"adc alias": 0, "stage alias": 0, "findings": 0, "compared": 0, "interior worst": 0}
     with tempfile.TemporaryDirectory() as tmp:
         path = os.path.join(tmp, "oracle.rig.yaml")
         with open(path, "w") as f:
@@ -383,11 +393,25 @@ def main():
             if a0["nyquist"] != (fs > 2 * band):
                 failures.append(f"{c['name']}: nyquist verdict {a0['nyquist']} at fs/B = {fs / band}")
             if a0["alias"] is not None:
-                f_alias = fs - band
-                check("fold_from", a0["alias"]["fold_from_hz"], f_alias, 1e-6 * fs)
+                # The worst image (docs/model.md §3): the least attenuated point of the
+                # image bands [n·fs − B, n·fs + B], here on a dense grid of the first
+                # three (every response in these chains rises beyond them). foldcheck's
+                # frequency must lie in an image band, its attenuation must be scipy's
+                # there, and no grid point may be less attenuated (0.01 dB).
                 counts["adc alias"] += 1
-                want = attenuation_db(chain, f_alias)
-                check("attenuation at fs-B (dB)", a0["alias"]["attenuation_db"], want, 0.01 + 1e-6 * want)
+                got_f = a0["alias"]["fold_from_hz"]
+                got_a = a0["alias"]["attenuation_db"]
+                n = round(got_f / fs)
+                if n < 1 or abs(got_f - n * fs) > band * (1 + 1e-9):
+                    failures.append(f"{c['name']}: fold_from {got_f} outside the image bands of {fs} Hz")
+                want = attenuation_db(chain, got_f)
+                check(f"attenuation at {got_f} Hz (dB)", got_a, want, 0.01 + 1e-6 * want)
+                grid = np.concatenate([np.linspace(k * fs - band, k * fs + band, 2001) for k in (1, 2, 3)])
+                grid_min = float(np.min(attenuation_vec(chain, grid)))
+                if got_a > grid_min + 0.01:
+                    failures.append(f"{c['name']}: worst image {got_a} dB above scipy's grid minimum {grid_min} dB")
+                if abs(got_f - (fs - band)) > 1e-6 * fs:
+                    counts["interior worst"] += 1
             pb = r["analysis"]["passband"]
             want_pb = attenuation_db(chain, band)
             if c["stage"]:
