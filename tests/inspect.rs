@@ -515,7 +515,9 @@ channels:
     filters: [{ response: digital, passband-edge: 0.45, stopband-edge: 0.55, attenuation: 100 dB }]
 ";
     // Renamed to `frame`, the channel would be clean (48 kHz for a 10 kHz band, 100 dB
-    // from 26.4 kHz), so the help may propose the name: it is a verified fix.
+    // from 26.4 kHz), so `check` verifies the rename and proposes it. `inspect` analyses
+    // only the channel it shows and verifies no fix, so its help never proposes an edit:
+    // it lists the names that exist instead.
     std::fs::write(dir.join("broken.rig.yaml"), rig).unwrap();
     let o = foldcheck(&dir, &["inspect", "broken.rig.yaml", "mic-left"]);
     assert_eq!(o.status.code(), Some(0), "stderr: {}", stderr(&o));
@@ -524,7 +526,8 @@ channels:
     assert!(text.contains("10 kHz, from the channel's `band`"), "{text}");
     assert!(text.contains("the channel did not resolve"), "{text}");
     assert!(text.contains("unknown-reference"), "{text}");
-    assert!(text.contains("did you mean `frame`?"), "{text}");
+    assert!(text.contains("help: defined clocks: frame"), "{text}");
+    assert!(!text.contains("did you mean"), "{text}");
 
     let o = foldcheck(
         &dir,
