@@ -53,6 +53,28 @@ pub enum InspectFormat {
     Json,
 }
 
+/// Output formats of `report`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum ReportFormat {
+    /// One self-contained HTML page.
+    Html,
+    /// The channel table as CSV (columns in docs/output.md).
+    Csv,
+    /// The channel table as JSON.
+    Json,
+}
+
+/// Which channels of the HTML report get their spectrum drawn.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum PlotChoice {
+    /// Channels with an active error or warning.
+    Failing,
+    /// Every analysed channel (a large file for a large campaign).
+    All,
+    /// None.
+    None,
+}
+
 /// Lowest severity that fails the run.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
 pub enum FailOn {
@@ -155,6 +177,24 @@ pub enum Command {
         /// Output format.
         #[arg(long, value_enum, default_value_t = InspectFormat::Human)]
         format: InspectFormat,
+        /// Use this settings file instead of discovering foldcheck.toml.
+        #[arg(long, value_name = "FILE")]
+        settings: Option<PathBuf>,
+    },
+    /// Write a campaign's channel sheet: one self-contained HTML page, or a CSV or JSON
+    /// table with one row per channel.
+    Report {
+        /// Rig files and directories, as for `check` (default: the current directory).
+        paths: Vec<PathBuf>,
+        /// Write to this file instead of stdout.
+        #[arg(long, short = 'o', value_name = "FILE")]
+        output: Option<PathBuf>,
+        /// Output format.
+        #[arg(long, value_enum, default_value_t = ReportFormat::Html)]
+        format: ReportFormat,
+        /// Which channels get their spectrum drawn in the HTML page.
+        #[arg(long, value_enum, default_value_t = PlotChoice::Failing)]
+        plots: PlotChoice,
         /// Use this settings file instead of discovering foldcheck.toml.
         #[arg(long, value_name = "FILE")]
         settings: Option<PathBuf>,

@@ -253,6 +253,34 @@ pub fn run(command: Command) -> Outcome {
         )
         .map(|t| (t, 0))
         .map_err(|e| format!("foldcheck: {e}")),
+        Command::Report {
+            paths,
+            output,
+            format,
+            plots,
+            settings,
+        } => {
+            use crate::cli::{PlotChoice, ReportFormat};
+            use foldcheck::sheet::{self, Format, Plots};
+            let paths = if paths.is_empty() {
+                vec![".".into()]
+            } else {
+                paths
+            };
+            let format = match format {
+                ReportFormat::Html => Format::Html,
+                ReportFormat::Csv => Format::Csv,
+                ReportFormat::Json => Format::Json,
+            };
+            let plots = match plots {
+                PlotChoice::Failing => Plots::Failing,
+                PlotChoice::All => Plots::All,
+                PlotChoice::None => Plots::None,
+            };
+            sheet::run(&paths, format, output.as_deref(), plots, settings)
+                .map(|t| (t, 0))
+                .map_err(|e| format!("foldcheck: {e}"))
+        }
         Command::Diff {
             paths,
             rev,

@@ -21,6 +21,7 @@ pub mod resolve;
 pub mod root;
 pub mod rules;
 pub mod settings;
+pub mod sheet;
 pub mod signal;
 pub mod source;
 pub mod suppress;

@@ -130,9 +130,10 @@ fn unknown_channel(rig: &Rig, name: &str) -> String {
     }
 }
 
-/// The settings file that applies to `file` (named or discovered) and its thresholds, for
-/// saying where each threshold comes from. The campaign run has already checked it.
-fn settings_thresholds(
+/// The settings file that applies to `file` (named or discovered), its thresholds and the
+/// rules it leaves on, for saying where each threshold comes from (`inspect`, `report`).
+/// The campaign run has already checked it.
+pub fn settings_thresholds(
     file: &Path,
     named: Option<&Path>,
 ) -> (Option<String>, ThresholdSettings, Enabled) {

@@ -14,6 +14,9 @@ mod misc;
 mod rates;
 mod stage_rules;
 
+pub use budget::channel_rates;
+pub use groups::{PairComparison, compare_pair};
+
 use crate::analysis::{self, RigAnalysis};
 use crate::finding::{Finding, Label, Severity};
 use crate::resolve::Rig;
