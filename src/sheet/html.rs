@@ -243,7 +243,8 @@ fn channel_table(rig: &RigSheet, i: usize) -> Markup {
 fn row(r: &Row) -> Markup {
     let ins = &r.ins;
     let a = ins.analysis.as_ref();
-    let num = |x: Option<f64>| x.map_or(String::new(), |x| format!("{}", crate::finding::finite(x)));
+    let num =
+        |x: Option<f64>| x.map_or(String::new(), |x| format!("{}", crate::finding::finite(x)));
     let search = format!(
         "{} {} {} {}",
         ins.channel,
@@ -251,7 +252,11 @@ fn row(r: &Row) -> Markup {
         ins.module.as_ref().map_or("", |m| m.name.as_str()),
         r.failing.join(" ")
     );
-    let active = ins.findings.iter().filter(|f| f.suppressed.is_none()).count();
+    let active = ins
+        .findings
+        .iter()
+        .filter(|f| f.suppressed.is_none())
+        .count();
     let suppressed = ins.findings.len() - active;
     html! {
         tbody.ch data-status=(r.status.as_str()) data-search=(search.to_lowercase()) {

@@ -15,11 +15,11 @@ pub mod table;
 use crate::analysis::AliasFailure;
 use crate::campaign::Outcome;
 use crate::finding::{Finding, Severity};
+use crate::fingerprint::segment;
 use crate::inspect::{self, FindingInfo, Inspection, Threshold};
 use crate::model::quantity::to_f64;
 use crate::resolve::Rig;
 use crate::resolve::chain::Chain;
-use crate::fingerprint::segment;
 use crate::rules::{PairComparison, channel_rates, compare_pair};
 use crate::source::Sources;
 use std::collections::BTreeMap;
@@ -471,10 +471,7 @@ fn rig_sheet(
                 (ch.def.name.value.clone(), fr, ch.sample_bits, bytes)
             })
             .collect(),
-        total_bytes_per_s: channel_rates(rig)
-            .iter()
-            .map(|(_, b)| b)
-            .sum(),
+        total_bytes_per_s: channel_rates(rig).iter().map(|(_, b)| b).sum(),
         throughput: l.throughput.as_ref().map(|t| t.value),
         storage: l.storage.as_ref().map(|t| t.value),
         duration_s: l.duration.as_ref().map(|t| t.value),
@@ -490,9 +487,7 @@ fn rig_sheet(
         .map(|c| c.def.name.value.as_str())
         .collect();
     let other_findings = file_findings(sources, findings, rig.file, |f| {
-        f.channel
-            .as_deref()
-            .is_none_or(|c| !names.contains(&c))
+        f.channel.as_deref().is_none_or(|c| !names.contains(&c))
     });
     RigSheet {
         file: sources.get(rig.file).display.clone(),
@@ -519,7 +514,9 @@ fn group_sheet(
     let subject = format!("group/{}", segment(&g.name.value));
     let about = |f: &&Finding| {
         f.subject.as_deref().is_some_and(|s| {
-            s == subject || s.strip_prefix(subject.as_str()).is_some_and(|r| r.starts_with('/'))
+            s == subject
+                || s.strip_prefix(subject.as_str())
+                    .is_some_and(|r| r.starts_with('/'))
         })
     };
     let members = rig.group_members.get(gi).cloned().unwrap_or_default();
@@ -541,7 +538,8 @@ fn group_sheet(
                     &rig.channels[a.0].def.name.value,
                     &rig.channels[b.0].def.name.value,
                 );
-                let pair = |x: &str, y: &str| format!("{subject}/pair/{}/{}", segment(x), segment(y));
+                let pair =
+                    |x: &str, y: &str| format!("{subject}/pair/{}/{}", segment(x), segment(y));
                 let (p1, p2) = (pair(an, bn), pair(bn, an));
                 let status = worst(findings.iter().filter(|f| {
                     f.subject

@@ -35,10 +35,7 @@ pub const COLUMNS: [(&str, &str); 24] = [
         "the lowest alias attenuation over every rate change (at fs − band, or a resonance's net attenuation)",
     ),
     ("required_db", "the required rejection there"),
-    (
-        "worst_alias_at",
-        "where that check is: `ADC` or `stage k`",
-    ),
+    ("worst_alias_at", "where that check is: `ADC` or `stage k`"),
     ("worst_alias_from_hz", "the frequency that folds in there"),
     ("droop_db", "the chain's attenuation at the band edge"),
     ("droop_tolerance_db", "the passband tolerance"),
@@ -104,7 +101,10 @@ fn cells(rig_file: &str, rig: Option<&str>, r: &Row) -> Vec<Cell> {
         opt_num(r.worst.as_ref().map(|w| w.required_db)),
         opt_text(r.worst_at().as_deref()),
         opt_num(r.worst.as_ref().map(|w| w.fold_from_hz)),
-        opt_num(a.and_then(|a| a.passband.as_ref()).map(|p| p.attenuation_db)),
+        opt_num(
+            a.and_then(|a| a.passband.as_ref())
+                .map(|p| p.attenuation_db),
+        ),
         opt_num(a.and_then(|a| a.passband.as_ref()).map(|p| p.tolerance_db)),
         opt_num(r.latency_s),
         opt_num(a.map(|a| a.data_rate_bytes_per_s)),
