@@ -97,7 +97,7 @@ fn summary(sheet: &Sheet, channels: usize) -> Markup {
                         th scope="row" { "Settings in force" }
                         td {
                             @if sheet.settings.is_empty() {
-                                "none (built-in defaults, and each rig's own `defaults`)"
+                                "no foldcheck.toml: built-in defaults and each rig's own " code { "defaults" }
                             } @else {
                                 @for (i, s) in sheet.settings.iter().enumerate() {
                                     @if i > 0 { ", " }
@@ -109,12 +109,11 @@ fn summary(sheet: &Sheet, channels: usize) -> Markup {
                 }
             }
             @if !sheet.by_rule.is_empty() {
-                table.facts {
-                    caption { "Active findings by rule" }
-                    thead { tr { th scope="col" { "Rule" } th scope="col" { "Findings" } } }
-                    tbody {
+                div.by-rule {
+                    h3 #by-rule-h { "Active findings by rule" }
+                    ul aria-labelledby="by-rule-h" {
                         @for (rule, k) in &sheet.by_rule {
-                            tr { th scope="row" { code { (rule) } } td.num { (k) } }
+                            li { code { (rule) } ": " (k) }
                         }
                     }
                 }
@@ -221,6 +220,7 @@ fn channel_table(rig: &RigSheet, i: usize) -> Markup {
             " "
             output aria-live="polite" {}
         }
+        div.scroll {
         table.channels id={ "tbl-" (i) } {
             caption {
                 "Channels of " (rig_title(rig)) ": " (rig.rows.len()) " rows. "
@@ -234,6 +234,7 @@ fn channel_table(rig: &RigSheet, i: usize) -> Markup {
                 }
             }
             @for r in &rig.rows { (row(r)) }
+        }
         }
     }
 }
