@@ -195,9 +195,9 @@ const HEADERS: [(&str, &str); 14] = [
     ("Final rate", "num"),
     ("Band", "num"),
     ("Ratio", "num"),
-    ("Worst alias attenuation", "num"),
+    ("Worst alias", "num"),
     ("Required", "num"),
-    ("Droop at band edge", "num"),
+    ("Droop", "num"),
     ("Latency", "num"),
     ("Findings", "num"),
 ];
