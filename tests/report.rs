@@ -330,3 +330,30 @@ fn the_columns_are_documented() {
         .collect();
     assert_eq!(listed, want);
 }
+
+/// A delta-sigma converter whose worst alias check is a modulator image: the table says
+/// `modulator`, with the frequency and attenuation `check` reports for the same channel
+/// (the case's expected file pins them: 3.2568 MHz, 30.26 dB).
+#[test]
+fn a_modulator_image_is_reported_as_such() {
+    let root = repo();
+    let rig = "tests/cases/alias-rejection/delta-sigma-first-order.rig.yaml";
+    let table: Value =
+        serde_json::from_str(&ok_stdout(&root, &["report", rig, "--format", "json"])).unwrap();
+    let row = &table["channels"][0];
+    assert_eq!(row["worst_alias_at"], "modulator");
+    let (check, _) = common::check_json(&root, &[rig]);
+    let f = check["findings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|f| f["rule"] == "alias-rejection")
+        .expect("the case raises alias-rejection");
+    assert_eq!(f["values"]["at"], "modulator");
+    assert_eq!(row["worst_alias_from_hz"], f["values"]["fold_from_hz"]);
+    let (ours, theirs) = (
+        row["worst_alias_db"].as_f64().unwrap(),
+        f["values"]["attenuation_db"].as_f64().unwrap(),
+    );
+    assert!((ours - theirs).abs() < 0.005, "{ours} vs {theirs}");
+}

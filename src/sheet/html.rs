@@ -289,7 +289,9 @@ fn row(r: &Row) -> Markup {
                     @if let Some(w) = &r.worst {
                         (db_text(w.attenuation_db))
                         @if w.attenuation_db < w.required_db { " " span.bad { (Status::Error.symbol()) " below" } }
-                        br; small { "at " (super::stage_name(w.stage)) ", from " (format_hz(w.fold_from_hz))
+                        br; small { "at " (r.worst_at().unwrap_or_default())
+                            @if let Some(m) = w.modulator_hz { " (" (format_hz(m)) ")" }
+                            ", from " (format_hz(w.fold_from_hz))
                             @if w.resonance.is_some() { " (resonance)" } }
                     } @else { "—" }
                 }

@@ -236,9 +236,16 @@ impl Row {
             .map(|s| s.rate_hz())
     }
 
-    /// Where the worst alias check is: `ADC` or `stage k`.
+    /// Where the worst alias check is: `ADC`, `stage k`, or `modulator` (an image of a
+    /// delta-sigma converter's modulator rate).
     pub fn worst_at(&self) -> Option<String> {
-        self.worst.as_ref().map(|w| stage_name(w.stage))
+        self.worst.as_ref().map(|w| {
+            if w.modulator_hz.is_some() {
+                "modulator".to_string()
+            } else {
+                stage_name(w.stage)
+            }
+        })
     }
 }
 
