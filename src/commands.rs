@@ -62,7 +62,23 @@ pub fn run(command: Command) -> Outcome {
                 CheckFormat::Json => {
                     json::render(&out.sources, &out.findings, out.files, out.channels)
                 }
-                CheckFormat::Sarif => report::sarif::render(&out.sources, &out.findings),
+                // Streamed straight to stdout as each result is serialised.
+                CheckFormat::Sarif => {
+                    use std::io::Write as _;
+                    let mut w = std::io::BufWriter::new(std::io::stdout().lock());
+                    match report::sarif::write(
+                        &mut w,
+                        &out.sources,
+                        &out.findings,
+                        &report::sarif::uri_base(),
+                    )
+                    .and_then(|()| w.flush())
+                    {
+                        Ok(()) => String::new(),
+                        Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => String::new(),
+                        Err(e) => return Err(format!("foldcheck: cannot write the output: {e}")),
+                    }
+                }
             };
             let code = u8::from(Counts::of(&out.findings).reaches(severity(fail_on)));
             Ok((text, code))

@@ -424,7 +424,8 @@ fn sarif_partial_fingerprints_are_the_json_fingerprints() {
         .as_array()
         .unwrap()
         .iter()
-        .map(|r| r["name"].as_str().unwrap())
+        .filter_map(|r| r["name"].as_str())
         .collect();
-    assert!(names.contains(&"AliasRejection") && names.contains(&"Nyquist"));
+    // A one-word rule has no `name`: it would only repeat the id (SARIF1001).
+    assert!(names.contains(&"AliasRejection") && !names.contains(&"Nyquist"));
 }

@@ -585,19 +585,83 @@ fn an_empty_campaign_gives_an_empty_results_array() {
 }
 
 #[test]
-fn absolute_paths_become_file_uris() {
+fn absolute_paths_below_the_base_become_relative_uris() {
     let dir = campaign();
     let abs = dir.path().join("notes");
     let abs = abs.to_str().expect("a UTF-8 temp path");
     let (log, json, _) = sarif_and_json(dir.path(), &[abs]);
-    let uri = uri_of(&result_for(&log, "unused-clock")["locations"][0]);
+    let loc = &result_for(&log, "unused-clock")["locations"][0];
     let file = findings(&json)[0]["file"].as_str().expect("file");
     assert!(
         Path::new(file).is_absolute(),
         "JSON keeps the path as given"
     );
-    let path = uri.strip_prefix("file://").expect("a file URI");
-    assert_eq!(percent_decode(path), file.replace('\\', "/"));
+    assert_eq!(uri_of(loc), "notes/spare.rig.yaml");
+    assert_eq!(resolve(&log, loc), PathBuf::from(file));
+}
+
+/// The file a location names: `%SRCROOT%` from `originalUriBaseIds` joined with the
+/// percent-decoded relative URI (RFC 3986 §5.2 for a path-only reference).
+fn resolve(log: &Value, location: &Value) -> PathBuf {
+    let art = location
+        .get("physicalLocation")
+        .map_or(&location["artifactLocation"], |p| &p["artifactLocation"]);
+    assert_eq!(art["uriBaseId"], "%SRCROOT%", "{art}");
+    let base = run_of(log)["originalUriBaseIds"]["%SRCROOT%"]["uri"]
+        .as_str()
+        .expect("a base URI");
+    assert!(base.ends_with('/'), "a base URI ends in `/`: {base}");
+    let base = percent_decode(base.strip_prefix("file://").expect("a file URI"));
+    let rel = art["uri"].as_str().expect("a uri");
+    PathBuf::from(format!("{base}{}", percent_decode(rel)))
+}
+
+// SARIF 2.1.0 §3.4.4 (uriBaseId) and §3.14.14 (originalUriBaseIds): artifact URIs are
+// relative to %SRCROOT%, declared as the top of the git work tree holding the current
+// directory (docs/output.md), even when foldcheck runs in a subdirectory.
+#[test]
+fn uris_are_relative_to_the_git_top_declared_as_srcroot() {
+    let dir = campaign();
+    std::fs::create_dir(dir.path().join(".git")).expect("mkdir .git");
+    let sub = dir.path().join("bay 3");
+    let (log, json, _) = sarif_and_json(&sub, &["bay-3.rig.yaml"]);
+    assert_valid(&log);
+    let top = dir.path().to_str().expect("a UTF-8 temp path");
+    let base = run_of(&log)["originalUriBaseIds"]["%SRCROOT%"]["uri"]
+        .as_str()
+        .expect("a base URI");
+    assert_eq!(percent_decode(base), format!("file://{top}/"));
+    let loc = &results(&log)[0]["locations"][0];
+    assert_eq!(uri_of(loc), "bay%203/bay-3.rig.yaml");
+    assert_eq!(
+        resolve(&log, loc),
+        sub.join(findings(&json)[0]["file"].as_str().expect("file"))
+    );
+}
+
+// RFC 3986 §2.1: a backslash is not a URI delimiter; on Unix it is a character of
+// the file name and is written %5C, never turned into `/`.
+#[cfg(unix)]
+#[test]
+fn a_backslash_in_a_file_name_is_percent_encoded() {
+    let dir = campaign();
+    std::fs::write(dir.path().join("odd\\name.rig.yaml"), SPARE_RIG).expect("write");
+    let (log, _, _) = sarif_and_json(dir.path(), &["odd\\name.rig.yaml"]);
+    assert_valid(&log);
+    let loc = &result_for(&log, "unused-clock")["locations"][0];
+    assert_eq!(uri_of(loc), "odd%5Cname.rig.yaml");
+    assert_eq!(resolve(&log, loc), dir.path().join("odd\\name.rig.yaml"));
+}
+
+// The log is streamed; its bytes are exactly serde_json's pretty form of the same
+// document (what building the whole tree and printing it gave before).
+#[test]
+fn streamed_output_equals_the_pretty_printed_tree() {
+    let (text, _) = run(&repo(), &["check", "--format", "sarif", "examples/"]);
+    let tree: Value = serde_json::from_str(&text).expect("JSON");
+    let mut pretty = serde_json::to_string_pretty(&tree).expect("serialise");
+    pretty.push('\n');
+    assert_eq!(text, pretty);
 }
 
 #[test]
@@ -649,9 +713,10 @@ fn verified_fixes_are_sarif_fixes_with_the_json_edits() {
         let sfix = &r["fixes"][0];
         assert_eq!(sfix["description"]["text"], fix["description"]);
         let change = &sfix["artifactChanges"][0];
+        // Relative to the git top (%SRCROOT%), which lies above the directory run in.
         assert_eq!(
-            percent_decode(change["artifactLocation"]["uri"].as_str().unwrap()),
-            fix["edits"][0]["file"].as_str().unwrap()
+            resolve(&sarif, change),
+            dir.join(fix["edits"][0]["file"].as_str().unwrap())
         );
         let rep = &change["replacements"][0];
         let edit = &fix["edits"][0];

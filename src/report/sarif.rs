@@ -9,9 +9,15 @@
 //!   1-based `startLine`/`startColumn`/`endLine`/`endColumn` as JSON's `line`, `column`,
 //!   `end_line`, `end_column`; `endColumn` is one past the last character, as SARIF
 //!   defines it.
-//! - `artifactLocation.uri` is the file's display path, percent-encoded as a URI
-//!   reference: a relative path stays relative (to the directory foldcheck ran in; no
-//!   `uriBaseId` is set), an absolute one becomes a `file:` URI.
+//! - `artifactLocation.uri` is the file's path relative to the top of the git work
+//!   tree holding the current directory (else the current directory), percent-encoded
+//!   as a URI reference, with `uriBaseId` `%SRCROOT%`; `run.originalUriBaseIds` declares
+//!   `%SRCROOT%` as that directory's `file:` URI. A file outside it gets an absolute
+//!   `file:` URI and no `uriBaseId`.
+//! - `tool.driver.informationUri` is Cargo.toml's `repository`, written only when set.
+//! - A rule's `name` is omitted when it would only repeat its id (`nyquist`).
+//! - The log is written as it is produced: each result is serialised to the output in
+//!   turn.
 //! - `message.text` is the finding's message; when the finding has a help line it
 //!   follows as a second sentence (`"<message>. <help>."`). The primary label's text is
 //!   `locations[0].message`, each secondary label a `relatedLocations` entry with
@@ -30,7 +36,10 @@
 use crate::finding::{Finding, Label, Severity};
 use crate::rules::{RULES, Rule, describe};
 use crate::source::Sources;
+use serde::ser::{Serialize, SerializeMap, Serializer};
 use serde_json::{Map, Value, json};
+use std::io::Write;
+use std::path::{Path, PathBuf};
 
 /// The SARIF version written.
 pub const SARIF_VERSION: &str = "2.1.0";
@@ -38,28 +47,125 @@ pub const SARIF_VERSION: &str = "2.1.0";
 /// The `$schema` written: the `$id` of the OASIS SARIF 2.1.0 schema.
 pub const SARIF_SCHEMA: &str = "https://raw.githubusercontent.com/oasis-tcs/sarif-spec/master/Schemata/sarif-schema-2.1.0.json";
 
-/// Render findings as a SARIF 2.1.0 log with one run.
+/// The `uriBaseId` every artifact URI under the base directory is relative to.
+pub const SRCROOT: &str = "%SRCROOT%";
+
+/// The directory `%SRCROOT%` stands for: the top of the git work tree holding the
+/// current directory (docs/output.md), else the current directory itself.
+pub fn uri_base() -> PathBuf {
+    let cwd = crate::campaign::absolute(Path::new("."));
+    crate::root::git_top(&cwd).unwrap_or(cwd)
+}
+
+/// Render findings as a SARIF 2.1.0 log with one run (the text [`write`] writes).
 pub fn render(sources: &Sources, findings: &[Finding]) -> String {
-    let rules: Vec<Value> = RULES.iter().map(|r| rule(r)).collect();
-    let results: Vec<Value> = findings.iter().map(|f| result(sources, f)).collect();
-    let v = json!({
-        "$schema": SARIF_SCHEMA,
-        "version": SARIF_VERSION,
-        "runs": [{
-            "tool": {
-                "driver": {
-                    "name": "foldcheck",
-                    "version": env!("CARGO_PKG_VERSION"),
-                    "rules": rules,
-                }
-            },
-            "columnKind": "unicodeCodePoints",
-            "results": results,
-        }],
-    });
-    let mut s = serde_json::to_string_pretty(&v).expect("JSON values serialise");
-    s.push('\n');
-    s
+    let mut out = Vec::new();
+    write(&mut out, sources, findings, &uri_base()).expect("writing to memory does not fail");
+    String::from_utf8(out).expect("serde_json writes UTF-8")
+}
+
+/// Write findings as a SARIF 2.1.0 log with one run to `out`, each result serialised
+/// straight to the writer as it is produced: no tree of all results is built.
+/// Artifact URIs are relative to `base`, declared as `%SRCROOT%`.
+pub fn write<W: Write>(
+    out: &mut W,
+    sources: &Sources,
+    findings: &[Finding],
+    base: &Path,
+) -> std::io::Result<()> {
+    let log = Log {
+        sources,
+        findings,
+        base,
+    };
+    serde_json::to_writer_pretty(&mut *out, &log).map_err(std::io::Error::from)?;
+    out.write_all(b"\n")
+}
+
+/// The whole log, serialised field by field (key order as written).
+struct Log<'a> {
+    sources: &'a Sources,
+    findings: &'a [Finding],
+    base: &'a Path,
+}
+
+/// The log's one run.
+struct Run<'a>(&'a Log<'a>);
+
+/// The run's results, serialised one at a time.
+struct Results<'a>(&'a Log<'a>);
+
+impl Serialize for Log<'_> {
+    fn serialize<S: Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        let mut m = s.serialize_map(Some(3))?;
+        m.serialize_entry("$schema", SARIF_SCHEMA)?;
+        m.serialize_entry("version", SARIF_VERSION)?;
+        m.serialize_entry("runs", &[Run(self)])?;
+        m.end()
+    }
+}
+
+impl Serialize for Run<'_> {
+    fn serialize<S: Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        let mut driver = Map::new();
+        driver.insert("name".into(), json!("foldcheck"));
+        driver.insert("version".into(), json!(env!("CARGO_PKG_VERSION")));
+        // Only when Cargo.toml names a repository (docs/output.md).
+        let repository = env!("CARGO_PKG_REPOSITORY");
+        if !repository.is_empty() {
+            driver.insert("informationUri".into(), json!(repository));
+        }
+        driver.insert(
+            "rules".into(),
+            Value::Array(RULES.iter().map(|r| rule(r)).collect()),
+        );
+        let mut m = s.serialize_map(Some(4))?;
+        m.serialize_entry("tool", &json!({ "driver": driver }))?;
+        m.serialize_entry(
+            "originalUriBaseIds",
+            &json!({ SRCROOT: { "uri": base_uri(self.0.base) } }),
+        )?;
+        m.serialize_entry("columnKind", "unicodeCodePoints")?;
+        m.serialize_entry("results", &Results(self.0))?;
+        m.end()
+    }
+}
+
+impl Serialize for Results<'_> {
+    fn serialize<S: Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        let log = self.0;
+        s.collect_seq(
+            log.findings
+                .iter()
+                .map(|f| result(log.sources, log.base, f)),
+        )
+    }
+}
+
+/// The base directory as an absolute `file:` URI ending in `/`.
+fn base_uri(base: &Path) -> String {
+    let mut u = uri(&base.to_string_lossy());
+    if !u.ends_with('/') {
+        u.push('/');
+    }
+    u
+}
+
+/// A file's `artifactLocation`: relative to `base` with `uriBaseId` `%SRCROOT%` when
+/// the file lies below it, else an absolute `file:` URI.
+fn artifact_location(file: &crate::source::SourceFile, base: &Path) -> Value {
+    let abs = crate::campaign::absolute(&file.path);
+    match abs.strip_prefix(base) {
+        Ok(rel) if !rel.as_os_str().is_empty() => {
+            let rel = rel
+                .components()
+                .map(|c| encode(&c.as_os_str().to_string_lossy()))
+                .collect::<Vec<_>>()
+                .join("/");
+            json!({ "uri": rel, "uriBaseId": SRCROOT })
+        }
+        _ => json!({ "uri": uri(&abs.to_string_lossy()) }),
+    }
 }
 
 /// SARIF's name for a severity.
@@ -73,14 +179,28 @@ fn level(s: Severity) -> &'static str {
 
 /// A rule as a SARIF `reportingDescriptor`.
 fn rule(r: &Rule) -> Value {
-    json!({
-        "id": r.name,
-        "name": pascal_case(r.name),
-        "shortDescription": { "text": r.summary },
-        "fullDescription": { "text": unwrap_paragraphs(r.explanation) },
-        "help": { "text": describe(r), "markdown": help_markdown(r) },
-        "defaultConfiguration": { "level": level(r.severity) },
-    })
+    let mut o = Map::new();
+    o.insert("id".into(), json!(r.name));
+    // SARIF validators ask to omit a `name` that only repeats the `id` (one-word rules
+    // such as `nyquist`: SARIF1001 compares them ignoring case).
+    let name = pascal_case(r.name);
+    if !name.eq_ignore_ascii_case(r.name) {
+        o.insert("name".into(), json!(name));
+    }
+    o.insert("shortDescription".into(), json!({ "text": r.summary }));
+    o.insert(
+        "fullDescription".into(),
+        json!({ "text": unwrap_paragraphs(r.explanation) }),
+    );
+    o.insert(
+        "help".into(),
+        json!({ "text": describe(r), "markdown": help_markdown(r) }),
+    );
+    o.insert(
+        "defaultConfiguration".into(),
+        json!({ "level": level(r.severity) }),
+    );
+    Value::Object(o)
 }
 
 /// A rule's friendly SARIF `name`: its kebab-case name in PascalCase
@@ -119,7 +239,7 @@ fn help_markdown(r: &Rule) -> String {
 }
 
 /// One finding as a SARIF `result`.
-fn result(sources: &Sources, f: &Finding) -> Value {
+fn result(sources: &Sources, base: &Path, f: &Finding) -> Value {
     let mut o = Map::new();
     o.insert("ruleId".into(), json!(f.rule));
     if let Some(i) = RULES.iter().position(|r| r.name == f.rule) {
@@ -132,14 +252,14 @@ fn result(sources: &Sources, f: &Finding) -> Value {
     );
     o.insert(
         "locations".into(),
-        json!([location(sources, &f.primary, None)]),
+        json!([location(sources, base, &f.primary, None)]),
     );
     if !f.secondary.is_empty() {
         let related: Vec<Value> = f
             .secondary
             .iter()
             .enumerate()
-            .map(|(i, l)| location(sources, l, Some(i)))
+            .map(|(i, l)| location(sources, base, l, Some(i)))
             .collect();
         o.insert("relatedLocations".into(), Value::Array(related));
     }
@@ -156,7 +276,7 @@ fn result(sources: &Sources, f: &Finding) -> Value {
         );
     }
     if let Some(fix) = &f.fix {
-        o.insert("fixes".into(), json!([sarif_fix(sources, fix)]));
+        o.insert("fixes".into(), json!([sarif_fix(sources, base, fix)]));
     }
     let mut props = Map::new();
     if let Some(c) = &f.channel {
@@ -174,7 +294,7 @@ fn result(sources: &Sources, f: &Finding) -> Value {
 /// A verified fix as a SARIF `fix`: one `artifactChange` per file, each edit a
 /// `replacement` whose `deletedRegion` is given by byte offset and length (with the
 /// same line and column region as results) and whose `insertedContent` is the new text.
-fn sarif_fix(sources: &Sources, fix: &crate::finding::Fix) -> Value {
+fn sarif_fix(sources: &Sources, base: &Path, fix: &crate::finding::Fix) -> Value {
     let mut by_file: Vec<(crate::source::FileId, Vec<Value>)> = Vec::new();
     let mut edits: Vec<_> = fix.edits.iter().collect();
     edits.sort_by_key(|e| (e.span.file, e.span.start));
@@ -203,7 +323,7 @@ fn sarif_fix(sources: &Sources, fix: &crate::finding::Fix) -> Value {
         "artifactChanges": by_file
             .into_iter()
             .map(|(f, replacements)| json!({
-                "artifactLocation": { "uri": uri(&sources.get(f).display) },
+                "artifactLocation": artifact_location(sources.get(f), base),
                 "replacements": replacements,
             }))
             .collect::<Vec<_>>(),
@@ -226,7 +346,7 @@ fn message_text(f: &Finding) -> String {
 }
 
 /// A labelled span as a SARIF `location` (with an `id` when it is a related location).
-fn location(sources: &Sources, label: &Label, id: Option<usize>) -> Value {
+fn location(sources: &Sources, base: &Path, label: &Label, id: Option<usize>) -> Value {
     let file = sources.get(label.span.file);
     let (start_line, start_column) = file.line_col(label.span.start);
     let (end_line, end_column) = file.line_col(label.span.end);
@@ -237,7 +357,7 @@ fn location(sources: &Sources, label: &Label, id: Option<usize>) -> Value {
     o.insert(
         "physicalLocation".into(),
         json!({
-            "artifactLocation": { "uri": uri(&file.display) },
+            "artifactLocation": artifact_location(file, base),
             "region": {
                 "startLine": start_line,
                 "startColumn": start_column,
