@@ -57,7 +57,7 @@ pub fn uri_base() -> PathBuf {
     crate::root::git_top(&cwd).unwrap_or(cwd)
 }
 
-/// Render findings as a SARIF 2.1.0 log with one run (the text [`write`] writes).
+/// Render findings as a SARIF 2.1.0 log with one run (the text [`write()`] writes).
 pub fn render(sources: &Sources, findings: &[Finding]) -> String {
     let mut out = Vec::new();
     write(&mut out, sources, findings, &uri_base()).expect("writing to memory does not fail");
