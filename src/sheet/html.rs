@@ -215,6 +215,7 @@ fn channel_table(rig: &RigSheet, i: usize) -> Markup {
                     option value="warning" { (Status::Warning.symbol()) " warning" }
                     option value="note" { (Status::Note.symbol()) " note" }
                     option value="pass" { (Status::Pass.symbol()) " pass" }
+                    option value="unchecked" { (Status::Unchecked.symbol()) " unchecked" }
                 }
             }
             " "

@@ -171,6 +171,9 @@ pub struct RigSheet {
 pub enum Status {
     /// No active finding.
     Pass,
+    /// No active finding of its own, but its rates were not analysed (it did not
+    /// resolve, or has no band): never shown as passing.
+    Unchecked,
     /// Its worst active finding is a note.
     Note,
     /// … a warning.
@@ -184,6 +187,7 @@ impl Status {
     pub fn as_str(self) -> &'static str {
         match self {
             Status::Pass => "pass",
+            Status::Unchecked => "unchecked",
             Status::Note => "note",
             Status::Warning => "warning",
             Status::Error => "error",
@@ -194,6 +198,7 @@ impl Status {
     pub fn symbol(self) -> &'static str {
         match self {
             Status::Pass => "\u{2714}",
+            Status::Unchecked => "?",
             Status::Note => "\u{2139}",
             Status::Warning => "\u{25b2}",
             Status::Error => "\u{2716}",
@@ -419,7 +424,12 @@ fn rig_sheet(
             .filter(|f| f.suppressed.is_none())
             .map(|f| Status::of(f.severity))
             .max()
-            .unwrap_or(Status::Pass);
+            .unwrap_or(Status::Pass)
+            .max(if ins.analysis.is_none() {
+                Status::Unchecked
+            } else {
+                Status::Pass
+            });
         let failing = ins
             .verdicts
             .iter()

@@ -46,7 +46,7 @@ pub const COLUMNS: [(&str, &str); 24] = [
     ("data_rate_bytes_per_s", "final rate × sample bits ÷ 8"),
     (
         "status",
-        "`pass`, or the worst severity of the channel's active findings: `note`, `warning`, `error`",
+        "`pass`, or the worst severity of the channel's active findings: `note`, `warning`, `error`; `unchecked` when it has none but its rates were not analysed",
     ),
     (
         "failing_rules",

@@ -73,7 +73,7 @@ def main():
     fails = []
     if len(dom.rows) != len(records):
         fails.append(f"{len(dom.rows)} rows in the page, {len(records)} channels in the CSV")
-    symbols = {"pass": "\u2714", "note": "\u2139", "warning": "\u25b2", "error": "\u2716"}
+    symbols = {"pass": "\u2714", "unchecked": "?", "note": "\u2139", "warning": "\u25b2", "error": "\u2716"}
     for row, rec in zip(dom.rows, records):
         name = rec["channel"]
         if row["name"] != name:
