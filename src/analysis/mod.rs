@@ -544,6 +544,9 @@ pub struct RateAnalysis {
     pub passband: Option<PassbandInfo>,
     /// Phase of the whole chain at the band edge, degrees.
     pub phase_at_band_deg: f64,
+    /// The chain's delays: every digital filter's, the analog group delay at DC and at
+    /// the band edge, and the latency (docs/model.md §2).
+    pub delays: DelayInfo,
     /// The final rate after the last stage, exact.
     pub final_rate: Exact,
     /// The final rate, Hz.
@@ -725,6 +728,42 @@ pub struct PassbandInfo {
     pub tolerance_db: f64,
     /// attenuation ≤ tolerance.
     pub pass: bool,
+}
+
+/// The delays of a channel's chain (docs/model.md §2, "Delays of the digital filters").
+#[derive(Clone, Debug)]
+pub struct DelayInfo {
+    /// Every digital filter's delay in signal order: the converter's filters (stage 0),
+    /// then each decimation stage's.
+    pub digital: Vec<crate::resolve::chain::StageDelay>,
+    /// The sum of the known digital delays, seconds.
+    pub digital_s: f64,
+    /// Whether every digital filter gives its delay (else `digital_s` counts the unknown
+    /// ones as zero).
+    pub complete: bool,
+    /// Group delay of the analog part of the chain at DC, seconds.
+    pub analog_dc_s: f64,
+    /// Group delay of the analog part of the chain at the band edge, seconds.
+    pub analog_band_edge_s: f64,
+    /// The latency: the digital delays plus the analog group delay at DC, seconds.
+    pub latency_s: f64,
+}
+
+impl DelayInfo {
+    /// The delays of `chain` for a band of `band_hz`.
+    pub fn of(chain: &Chain, band_hz: f64) -> DelayInfo {
+        let digital = chain.digital_delays();
+        let digital_s = digital.iter().filter_map(|d| d.delay_s).sum();
+        let analog_dc_s = chain.analog_group_delay_s(0.0);
+        DelayInfo {
+            complete: digital.iter().all(|d| d.delay_s.is_some()),
+            digital,
+            digital_s,
+            analog_dc_s,
+            analog_band_edge_s: chain.analog_group_delay_s(band_hz),
+            latency_s: digital_s + analog_dc_s,
+        }
+    }
 }
 
 /// `oversampling`: the final ratio against the limit.
@@ -1123,6 +1162,7 @@ pub fn analyse_rates(
         disturbances,
         passband,
         phase_at_band_deg: chain.phase_deg(band_hz),
+        delays: DelayInfo::of(&chain, band_hz),
         final_rate,
         final_rate_hz,
         final_ratio_exact: final_rate.checked_div(&band),

@@ -26,7 +26,8 @@
 //!   },
 //!   "sensor": { "name", "found", "kind", "bandwidth_hz",
 //!               "resonance": { "frequency_hz", "gain_db" } | null } | null,
-//!   "module": { "name", "found", "adc_bits", "max_rate_hz", "rates_hz": [..] } | null,
+//!   "module": { "name", "found", "adc_bits", "max_rate_hz", "rates_hz": [..],
+//!               "modulator": "64 × the ADC rate = 3.2768 MHz" | null } | null,
 //!   "band": { "hz": 20000.0, "from": "the channel's `band` (…)" } | null,
 //!   "filters": [ { "place": "channel filter", "stage": 0,
 //!                  "response": "butterworth", "description": "4th-order Butterworth at 20 kHz" } ],
@@ -45,9 +46,19 @@
 //!       "ratio": 2.4, "nyquist": true,
 //!       "margin": { "value": 2.5, "pass": false },
 //!       "checked": true,                     // false after a rate change that fails nyquist
-//!       "alias": null | { "fold_from_hz": 28000.0, "attenuation_db": 11.97,
+//!       "alias": null | { "fold_from_hz": 28000.0,   // the worst point of every image band
+//!                         "attenuation_db": 11.97,
 //!                         "contributions": [ { "what": "…", "attenuation_db": 11.97 } ],
 //!                         "required_db": 40.0, "pass": false },
+//!       "delays": [ { "filter": "5th-order sinc",   // each digital filter at this rate
+//!                     "delay_s": 0.00068359375,    // change (the converter's at the ADC):
+//!                     "samples": 17.5,             // null when it gives no delay; samples
+//!                     "samples_rate_hz": 25600.0 } ],  // of a sinc's input rate, of a
+//!                                                      // `digital` filter's output rate
+//!       "modulator": null | {             // the ADC of a delta-sigma converter: its
+//!         "rate_hz": 3276800.0,           // modulator images, against the analog
+//!         "fold_from_hz": 3256800.0,      // chain alone (docs/model.md §4)
+//!         "attenuation_db", "contributions", "required_db", "pass" },
 //!       "resonance": null | { "frequency_hz", "gain_db", "arrives_at_hz", "lands_at_hz",
 //!                             "folds_into_band", "attenuation_db", "net_attenuation_db",
 //!                             "required_db", "pass": true | false | null }
@@ -61,6 +72,11 @@
 //!     "passband": { "band_hz", "attenuation_db", "contributions": [..],
 //!                   "tolerance_db", "pass" },
 //!     "phase_at_band_deg": -180.0,
+//!     "latency": { "analog_group_delay_dc_s": 2.6e-5,     // analog filters and sensor
+//!                  "analog_group_delay_band_edge_s": 3.1e-5, // response, at DC and at B
+//!                  "digital_delay_s": 0.00068359375,      // known digital delays, summed
+//!                  "digital_delays_known": true,          // false: one gives no delay
+//!                  "latency_s": 0.00070959375 },          // digital + analog at DC
 //!     "final_rate_hz": 48000.0, "final_ratio": 2.4,
 //!     "oversampling": { "limit": 20.0, "pass": true },
 //!     "data_rate_bytes_per_s": 192000.0
@@ -72,7 +88,7 @@
 //! }
 //! ```
 
-use super::{DisturbanceOutcome, Inspection, exact_string};
+use super::{DelayInfo, DisturbanceOutcome, Inspection, exact_string};
 use crate::finding::finite;
 use crate::model::quantity::to_f64;
 use serde_json::{Value, json};
@@ -85,6 +101,24 @@ fn contributions(list: &[(String, f64)]) -> Value {
     Value::Array(
         list.iter()
             .map(|(what, db)| json!({ "what": what, "attenuation_db": num(*db) }))
+            .collect(),
+    )
+}
+
+/// The digital filters' delays at rate change `stage`.
+fn stage_delays(d: &DelayInfo, stage: usize) -> Value {
+    Value::Array(
+        d.digital
+            .iter()
+            .filter(|sd| sd.stage == stage)
+            .map(|sd| {
+                json!({
+                    "filter": sd.what,
+                    "delay_s": sd.delay_s.map(num),
+                    "samples": sd.samples.map(|(n, _)| num(n)),
+                    "samples_rate_hz": sd.samples.map(|(_, r)| num(r)),
+                })
+            })
             .collect(),
     )
 }
@@ -129,6 +163,7 @@ pub fn render(ins: &Inspection, plot: Option<&str>) -> String {
             "adc_bits": m.adc_bits,
             "max_rate_hz": m.max_rate_hz.map(num),
             "rates_hz": m.rates_hz.iter().map(|&r| num(r)).collect::<Vec<_>>(),
+            "modulator": m.modulator,
         })
     });
     let filters: Vec<Value> = ins
@@ -172,6 +207,15 @@ pub fn render(ins: &Inspection, plot: Option<&str>) -> String {
                         "contributions": contributions(&al.contributions),
                         "required_db": num(al.required_db),
                         "pass": al.pass,
+                    })),
+                    "delays": stage_delays(&a.delays, s.stage),
+                    "modulator": s.modulator.as_ref().map(|(fmod, m)| json!({
+                        "rate_hz": num(*fmod),
+                        "fold_from_hz": num(m.fold_from_hz),
+                        "attenuation_db": num(m.attenuation_db),
+                        "contributions": contributions(&m.contributions),
+                        "required_db": num(m.required_db),
+                        "pass": m.pass,
                     })),
                     "resonance": s.resonance.as_ref().map(|r| json!({
                         "frequency_hz": num(r.frequency_hz),
@@ -238,6 +282,13 @@ pub fn render(ins: &Inspection, plot: Option<&str>) -> String {
                 "pass": p.pass,
             })),
             "phase_at_band_deg": num(a.phase_at_band_deg),
+            "latency": json!({
+                "analog_group_delay_dc_s": num(a.delays.analog_dc_s),
+                "analog_group_delay_band_edge_s": num(a.delays.analog_band_edge_s),
+                "digital_delay_s": num(a.delays.digital_s),
+                "digital_delays_known": a.delays.complete,
+                "latency_s": num(a.delays.latency_s),
+            }),
             "final_rate_hz": num(a.final_rate_hz),
             "final_ratio": num(a.final_ratio),
             "oversampling": a.oversampling.as_ref().map(|o| json!({ "limit": num(o.limit), "pass": o.pass })),

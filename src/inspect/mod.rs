@@ -317,6 +317,8 @@ pub struct ModuleInfo {
     pub max_rate_hz: Option<f64>,
     /// The only ADC rates it supports, Hz.
     pub rates_hz: Vec<f64>,
+    /// Its delta-sigma modulator, described ("64 × the ADC rate = 3.2768 MHz").
+    pub modulator: Option<String>,
 }
 
 /// One filter of the chain.
@@ -354,7 +356,7 @@ pub struct FindingInfo {
 }
 
 pub use crate::analysis::{
-    AliasCheck, DisturbanceInfo, DisturbanceOutcome, DisturbanceStep, PassbandInfo,
+    AliasCheck, DelayInfo, DisturbanceInfo, DisturbanceOutcome, DisturbanceStep, PassbandInfo,
     RateAnalysis as Analysis, ResonanceCheck, StageInfo,
 };
 
@@ -453,8 +455,8 @@ fn channel_findings(
 }
 
 /// The filters of a channel's chain in signal order: the sensor's response, the ADC
-/// chain (the channel's or its module's), then each decimation stage's filter — the
-/// order in which [`Chain::contributions`] lists them.
+/// chain (the channel's or its module's), the converter's own filter, then each
+/// decimation stage's filter — the order in which [`Chain::contributions`] lists them.
 fn chain_filters(rig: &Rig, ch: &RChannel) -> Vec<FilterInfo> {
     let mut filters = Vec::new();
     if let Some(resp) = ch.sensor.and_then(|s| rig.sensors[s].response.as_ref()) {
@@ -466,6 +468,13 @@ fn chain_filters(rig: &Rig, ch: &RChannel) -> Vec<FilterInfo> {
     }
     let adc_place = ch.filters_origin.place();
     filters.extend(ch.filters.iter().map(|f| filter_info(adc_place, 0, f)));
+    if let Some(f) = ch
+        .module
+        .and_then(|m| rig.modules[m].modulator.as_ref())
+        .and_then(|m| m.filter.as_ref())
+    {
+        filters.push(filter_info("converter filter", 0, f));
+    }
     for (k, st) in ch.def.decimate.iter().enumerate() {
         if let Some(f) = &st.filter {
             filters.push(filter_info(
@@ -571,6 +580,21 @@ pub fn inspect(
                 .and_then(|m| m.rates.as_ref())
                 .map(|r| r.value.iter().map(|x| to_f64(&x.value)).collect())
                 .unwrap_or_default(),
+            modulator: found.and_then(|m| m.modulator.as_ref()).map(|md| {
+                let rate = rig
+                    .adc_rate(ch)
+                    .and_then(|fs| md.rate_for(fs))
+                    .map(|r| format_hz(to_f64(&r)));
+                match (&md.rate, rate) {
+                    (crate::model::ModulatorRate::Ratio(k), Some(r)) => {
+                        format!("{} × the ADC rate = {r}", k.value)
+                    }
+                    (crate::model::ModulatorRate::Ratio(k), None) => {
+                        format!("{} × the ADC rate", k.value)
+                    }
+                    (crate::model::ModulatorRate::Rate(r), _) => format_hz(to_f64(&r.value)),
+                }
+            }),
         }
     });
 

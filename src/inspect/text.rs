@@ -1,10 +1,11 @@
 //! The human form of `inspect`: plain text, one fact a line, the numbers with units.
 
 use super::{
-    ClockInfo, DisturbanceOutcome, Inspection, StageInfo, db_text, exact_suffix, rate_text,
+    ClockInfo, DelayInfo, DisturbanceOutcome, Inspection, StageInfo, db_text, exact_suffix,
+    rate_text,
 };
 use crate::finding::format_db;
-use crate::model::quantity::{format_bytes, format_hz, sig6};
+use crate::model::quantity::{format_bytes, format_hz, format_seconds, sig6};
 use std::fmt::Write;
 
 const KEY: usize = 20;
@@ -123,6 +124,9 @@ pub fn render(ins: &Inspection, plot: Option<&str>) -> String {
                 let rates: Vec<String> = m.rates_hz.iter().map(|&r| format_hz(r)).collect();
                 facts.push(format!("rates {}", rates.join(", ")));
             }
+            if let Some(md) = &m.modulator {
+                facts.push(format!("delta-sigma modulator at {md}"));
+            }
             let v = if facts.is_empty() {
                 m.name.clone()
             } else {
@@ -207,6 +211,7 @@ pub fn render(ins: &Inspection, plot: Option<&str>) -> String {
             for s in &a.stages {
                 out.push('\n');
                 stage(&mut out, s, b);
+                stage_delays(&mut out, &a.delays, s);
             }
             if !a.disturbances.is_empty() {
                 out.push_str("\ndisturbances\n");
@@ -303,6 +308,7 @@ pub fn render(ins: &Inspection, plot: Option<&str>) -> String {
                 "phase",
                 &format!("{:.2} deg at {}", zero(a.phase_at_band_deg), format_hz(b)),
             );
+            latency(&mut out, &a.delays, b);
             let limit = match &a.oversampling {
                 Some(o) => format!(
                     " (oversampling limit {}: {})",
@@ -350,6 +356,79 @@ pub fn render(ins: &Inspection, plot: Option<&str>) -> String {
         let _ = writeln!(out, "\nplot written to {p}");
     }
     out
+}
+
+/// One `delay` line per digital filter of rate change `s` (the converter's filters at
+/// the ADC, the stage's own filter after it).
+fn stage_delays(out: &mut String, d: &DelayInfo, s: &StageInfo) {
+    for sd in d.digital.iter().filter(|sd| sd.stage == s.stage) {
+        let v = match (sd.delay_s, sd.samples) {
+            (Some(t), Some((n, rate))) => format!(
+                "{} ({} samples at {}), {}",
+                format_seconds(t),
+                sig6(n),
+                format_hz(rate),
+                sd.what
+            ),
+            (Some(t), None) => format!("{}, {}", format_seconds(t), sd.what),
+            (None, _) => format!(
+                "unknown (no `delay` or `delay-samples`: counted as 0), {}",
+                sd.what
+            ),
+        };
+        line(out, 2, "delay", &v);
+    }
+}
+
+/// The analog group delay at DC and at the band edge, and the latency.
+fn latency(out: &mut String, d: &DelayInfo, b: f64) {
+    line(
+        out,
+        2,
+        "group delay",
+        &format!(
+            "{} at DC, {} at {} (analog filters and sensor response)",
+            format_seconds(d.analog_dc_s),
+            format_seconds(d.analog_band_edge_s),
+            format_hz(b)
+        ),
+    );
+    let unknown = if d.complete {
+        ""
+    } else {
+        ", a digital delay unknown"
+    };
+    line(
+        out,
+        2,
+        "latency",
+        &format!(
+            "{} (digital {} + analog at DC {}{unknown})",
+            format_seconds(d.latency_s),
+            format_seconds(d.digital_s),
+            format_seconds(d.analog_dc_s)
+        ),
+    );
+}
+
+/// Which image a folding frequency belongs to: `fs − B = 43 kHz`, `2·fs − B = 91 kHz`,
+/// or a point inside an image band (`98 kHz, inside 2·fs ± B`). `rate` is the rate the
+/// images repeat at, `name` its symbol.
+fn image_name(f: f64, rate: f64, band: f64, name: &str) -> String {
+    let n = (f / rate).round().max(1.0);
+    let k = if n == 1.0 {
+        name.to_string()
+    } else {
+        format!("{}·{name}", sig6(n))
+    };
+    let tol = 1e-9 * f.abs().max(1.0);
+    if (f - (n * rate - band)).abs() <= tol {
+        format!("{k} − B = {}", format_hz(f))
+    } else if (f - (n * rate + band)).abs() <= tol {
+        format!("{k} + B = {}", format_hz(f))
+    } else {
+        format!("{}, inside {k} ± B", format_hz(f))
+    }
 }
 
 /// Shows -0.00 as 0.00.
@@ -423,7 +502,7 @@ fn stage(out: &mut String, s: &StageInfo, b: f64) {
                 out,
                 2,
                 "folds from",
-                &format!("fs − B = {}", format_hz(al.fold_from_hz)),
+                &image_name(al.fold_from_hz, fs, b, "fs"),
             );
             if al.contributions.is_empty() {
                 line(
@@ -452,6 +531,58 @@ fn stage(out: &mut String, s: &StageInfo, b: f64) {
             };
             line(out, 2, "alias rejection", &v);
         }
+    }
+    if let Some((fmod, m)) = &s.modulator {
+        line(
+            out,
+            2,
+            "modulator",
+            &format!(
+                "{}: the converter's filter repeats around its multiples, so only the analog chain protects the band from their images",
+                format_hz(*fmod)
+            ),
+        );
+        line(
+            out,
+            2,
+            "folds from",
+            &image_name(m.fold_from_hz, *fmod, b, "f_mod"),
+        );
+        let analog: Vec<&(String, f64)> = m
+            .contributions
+            .iter()
+            .filter(|(_, db)| *db != 0.0)
+            .collect();
+        if analog.is_empty() {
+            line(
+                out,
+                2,
+                "attenuation",
+                &format!(
+                    "{} (no analog filter before the converter)",
+                    format_db(m.attenuation_db)
+                ),
+            );
+        } else {
+            line(
+                out,
+                2,
+                "attenuation",
+                &format!("{} (analog chain alone)", format_db(m.attenuation_db)),
+            );
+            for (what, db) in analog {
+                more(out, 2, &format!("  {what}: {}", format_db(*db)));
+            }
+        }
+        let v = if m.pass {
+            "pass".to_string()
+        } else {
+            format!(
+                "FAIL, {} short",
+                format_db(m.required_db - m.attenuation_db)
+            )
+        };
+        line(out, 2, "modulator images", &v);
     }
     if let Some(r) = &s.resonance {
         let mut head = format!("{} (+{} dB)", format_hz(r.frequency_hz), sig6(r.gain_db));

@@ -245,7 +245,7 @@ impl<'a> Chain<'a> {
 
     /// Each filter of the whole chain named by its place, in the order
     /// [`Chain::contributions`] lists them: "sensor response: …", "channel filter: …"
-    /// (or "module filter: …"), "decimation stage k: …".
+    /// (or "module filter: …"), "converter filter: …", "decimation stage k: …".
     pub fn filter_places(&self) -> Vec<String> {
         let mut v = Vec::new();
         if let Some(s) = self.channel.sensor.map(|i| &self.rig.sensors[i])
@@ -264,6 +264,9 @@ impl<'a> Chain<'a> {
                 .iter()
                 .map(|f| format!("{origin}: {}", f.response.describe())),
         );
+        if let Some(f) = self.modulator().and_then(|m| m.filter.as_ref()) {
+            v.push(format!("converter filter: {}", f.response.describe()));
+        }
         for (k, st) in self.channel.def.decimate.iter().enumerate() {
             if let Some(f) = &st.filter {
                 v.push(format!(
@@ -335,36 +338,44 @@ impl<'a> Chain<'a> {
     pub fn digital_delays(&self) -> Vec<StageDelay> {
         let mut v = Vec::new();
         let fs0 = to_f64(&self.adc_rate());
-        let adc_filters = self
-            .channel
-            .filters
-            .iter()
-            .chain(self.modulator().and_then(|m| m.filter.as_ref()));
-        for f in adc_filters {
+        let origin = self.channel.filters_origin.place();
+        let adc_filters = self.channel.filters.iter().map(|f| (f, origin)).chain(
+            self.modulator()
+                .and_then(|m| m.filter.as_ref())
+                .map(|f| (f, "converter filter")),
+        );
+        for (f, place) in adc_filters {
             if let Response::Digital { delay, .. } = &f.response {
                 v.push(StageDelay {
                     stage: 0,
                     filter: f.span,
-                    what: f.response.describe(),
+                    what: format!("{place}: {}", f.response.describe()),
                     delay_s: delay.map(|d| d.seconds(fs0)),
+                    samples: delay.map(|d| (d.seconds(fs0) * fs0, fs0)),
                 });
             }
         }
         for (rc, st) in self.changes.iter().skip(1).zip(&self.channel.def.decimate) {
             let Some(f) = &st.filter else { continue };
             let fin = rc.fs_in.map_or(f64::NAN, |r| to_f64(&r));
-            let delay_s = match &f.response {
+            let fout = rc.fs_hz();
+            let (delay_s, samples) = match &f.response {
                 Response::Sinc { order } => {
-                    Some(crate::signal::digital::sinc_delay_samples(*order, rc.factor) / fin)
+                    let n = crate::signal::digital::sinc_delay_samples(*order, rc.factor);
+                    (Some(n / fin), Some((n, fin)))
                 }
-                Response::Digital { delay, .. } => delay.map(|d| d.seconds(rc.fs_hz())),
+                Response::Digital { delay, .. } => (
+                    delay.map(|d| d.seconds(fout)),
+                    delay.map(|d| (d.seconds(fout) * fout, fout)),
+                ),
                 _ => continue,
             };
             v.push(StageDelay {
                 stage: rc.stage,
                 filter: f.span,
-                what: f.response.describe(),
+                what: format!("decimation stage {}: {}", rc.stage, f.response.describe()),
                 delay_s,
+                samples,
             });
         }
         v
@@ -590,10 +601,13 @@ pub struct StageDelay {
     pub stage: usize,
     /// The filter's mapping.
     pub filter: Span,
-    /// The filter, described ("5th-order sinc").
+    /// The filter, named by its place ("decimation stage 1: 5th-order sinc").
     pub what: String,
     /// Its delay in seconds, `None` when the filter does not give it.
     pub delay_s: Option<f64>,
+    /// The same delay in samples, and the rate they are counted at (Hz): a sinc's input
+    /// rate, a `digital` filter's output rate.
+    pub samples: Option<(f64, f64)>,
 }
 
 /// Where two phase curves differ most over `(0, top]`: `(frequency, a − b)` with the
