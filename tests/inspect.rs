@@ -742,3 +742,120 @@ fn the_plot_draws_every_rate_changes_images_and_half_rate_in_its_own_colour() {
         text_x(legend);
     }
 }
+
+fn case_path(rel: &str) -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("tests/cases")
+        .join(rel)
+}
+
+#[test]
+fn inspect_shows_each_digital_delay_the_analog_group_delay_and_the_latency() {
+    // tests/cases/group-phase/sinc-vs-direct: `span-sinc` samples at 25.6 kHz through an
+    // 8th-order Butterworth at 500 Hz and decimates by 8 through a 5th-order sinc.
+    let dir = scratch("delays");
+    let rig = case_path("group-phase/sinc-vs-direct.rig.yaml");
+    let rig = rig.to_str().unwrap();
+    let o = foldcheck(&dir, &["inspect", rig, "span-sinc", "--format", "json"]);
+    assert_eq!(o.status.code(), Some(0), "stderr: {}", stderr(&o));
+    let v: Value = serde_json::from_str(&stdout(&o)).expect("valid JSON");
+    let a = &v["analysis"];
+    // The sinc delays by N·(M − 1)/2 = 17.5 samples of its 25.6 kHz input rate
+    // (Hogenauer 1981, from memory; numpy centroid check in tests/reference/cic_delay.py).
+    let d = &a["rate_changes"][1]["delays"][0];
+    assert_eq!(d["samples"].as_f64(), Some(17.5));
+    assert_eq!(d["samples_rate_hz"].as_f64(), Some(25_600.0));
+    assert!(close(
+        d["delay_s"].as_f64().unwrap(),
+        17.5 / 25_600.0,
+        1e-15
+    ));
+    assert_eq!(
+        a["rate_changes"][0]["delays"].as_array().map(Vec::len),
+        Some(0)
+    );
+    // Group delay of butter(8, 2π·500, analog=True, output='zpk') from scipy's poles
+    // (Σ −Re p / (Re p² + (ω − Im p)²)), cross-checked against a numerical derivative
+    // of the unwrapped freqs_zpk phase (agreement 1e-11 s), computed with scipy 1.17.1
+    // when this test was written. At DC it is also the closed form
+    // 1 / (2π·fc·sin(π/2n)) of a Butterworth filter (from memory).
+    let lat = &a["latency"];
+    let dc = lat["analog_group_delay_dc_s"].as_f64().unwrap();
+    let closed = 1.0 / (2.0 * std::f64::consts::PI * 500.0 * (std::f64::consts::PI / 16.0).sin());
+    assert!(close(dc, 0.001_631_602_648_938_555_7, 1e-15), "{dc}");
+    assert!(close(dc, closed, 1e-15), "{dc} vs {closed}");
+    let edge = lat["analog_group_delay_band_edge_s"].as_f64().unwrap();
+    assert!(close(edge, 0.002_379_869_309_684_910_3, 1e-15), "{edge}");
+    assert_eq!(lat["digital_delays_known"].as_bool(), Some(true));
+    assert!(close(
+        lat["digital_delay_s"].as_f64().unwrap(),
+        17.5 / 25_600.0,
+        1e-15
+    ));
+    assert!(close(
+        lat["latency_s"].as_f64().unwrap(),
+        17.5 / 25_600.0 + 0.001_631_602_648_938_555_7,
+        1e-15
+    ));
+    // The text shows the same numbers.
+    let o = foldcheck(&dir, &["inspect", rig, "span-sinc"]);
+    let text = stdout(&o);
+    assert!(
+        text.contains(
+            "  delay             683.594 µs (17.5 samples at 25.6 kHz), decimation stage 1: 5th-order sinc\n"
+        ),
+        "{text}"
+    );
+    assert!(
+        text.contains("  group delay       1.6316 ms at DC, 2.37987 ms at 400 Hz"),
+        "{text}"
+    );
+    assert!(
+        text.contains(
+            "  latency           2.3152 ms (digital 683.594 µs + analog at DC 1.6316 ms)"
+        ),
+        "{text}"
+    );
+}
+
+#[test]
+fn a_delta_sigma_converter_has_its_own_modulator_row() {
+    // tests/cases/alias-rejection/delta-sigma-first-order: 64 × 51.2 kHz = 3.2768 MHz;
+    // the first image starts at 3.2568 MHz, where a 1st-order Butterworth at 100 kHz
+    // gives 10·log10(1 + (3.2568 MHz / 100 kHz)²) = 30.26 dB (closed form,
+    // docs/model.md §4). An unnamed digital filter gives no delay.
+    let dir = scratch("modulator-row");
+    let rig = case_path("alias-rejection/delta-sigma-first-order.rig.yaml");
+    let rig = rig.to_str().unwrap();
+    let o = foldcheck(&dir, &["inspect", rig, "hull-accel", "--format", "json"]);
+    assert_eq!(o.status.code(), Some(0), "stderr: {}", stderr(&o));
+    let v: Value = serde_json::from_str(&stdout(&o)).expect("valid JSON");
+    assert_eq!(
+        v["module"]["modulator"].as_str(),
+        Some("64 × the ADC rate = 3.2768 MHz")
+    );
+    let m = &v["analysis"]["rate_changes"][0]["modulator"];
+    assert_eq!(m["rate_hz"].as_f64(), Some(3_276_800.0));
+    assert_eq!(m["fold_from_hz"].as_f64(), Some(3_256_800.0));
+    let closed = 10.0 * (1.0 + (3_256_800.0f64 / 100e3).powi(2)).log10();
+    assert!(close(m["attenuation_db"].as_f64().unwrap(), closed, 1e-9));
+    assert_eq!(m["pass"].as_bool(), Some(false));
+    let d = &v["analysis"]["rate_changes"][0]["delays"][0];
+    assert!(d["delay_s"].is_null() && d["samples"].is_null());
+    assert_eq!(
+        v["analysis"]["latency"]["digital_delays_known"].as_bool(),
+        Some(false)
+    );
+    let o = foldcheck(&dir, &["inspect", rig, "hull-accel"]);
+    let text = stdout(&o);
+    for want in [
+        "delta-sigma modulator at 64 × the ADC rate = 3.2768 MHz",
+        "  folds from        f_mod − B = 3.2568 MHz\n",
+        "  attenuation       30.26 dB (analog chain alone)\n",
+        "  modulator images  FAIL, 29.74 dB short\n",
+        "converter filter: digital filter (100 dB stopband)",
+        "  delay             unknown (no `delay` or `delay-samples`: counted as 0)",
+    ] {
+        assert!(text.contains(want), "{want:?} missing from\n{text}");
+    }
+}
