@@ -1260,7 +1260,7 @@ fn closest_file(target: &Path) -> Option<String> {
         .filter_map(|e| e.file_name().into_string().ok())
         .filter(|n| n.ends_with(".yaml") || n.ends_with(".yml"))
         .collect();
-    resolve::closest(name, names.iter().map(String::as_str)).map(str::to_string)
+    crate::words::closest(name, names.iter().map(String::as_str)).map(str::to_string)
 }
 
 /// An include that failed, so the names it may define are unknown.

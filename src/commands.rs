@@ -226,7 +226,7 @@ pub fn run(command: Command) -> Outcome {
             Some(name) => match foldcheck::rules::rule(&name) {
                 Some(r) => Ok((foldcheck::rules::describe(r), 0)),
                 None => {
-                    let hint = foldcheck::resolve::closest(&name, RULES.iter().map(|r| r.name))
+                    let hint = foldcheck::words::closest(&name, RULES.iter().map(|r| r.name))
                         .map(|b| format!("; did you mean `{b}`?"))
                         .unwrap_or_default();
                     Err(format!("foldcheck: no rule named `{name}`{hint}"))

@@ -291,7 +291,7 @@ impl Finding {
     }
 
     /// Add a machine-readable value. Non-finite numbers are clamped (JSON has no
-    /// infinity): see [`finite`].
+    /// infinity): see [`crate::words::finite`].
     pub fn with_value(mut self, key: &str, value: impl Into<Value>) -> Self {
         self.values.insert(key.to_string(), value.into());
         self
@@ -300,64 +300,7 @@ impl Finding {
     /// Add a floating-point value, clamped to stay valid JSON.
     pub fn with_f64(mut self, key: &str, value: f64) -> Self {
         self.values
-            .insert(key.to_string(), Value::from(finite(value)));
+            .insert(key.to_string(), Value::from(crate::words::finite(value)));
         self
-    }
-}
-
-/// Attenuation deeper than this is shown as "> 300 dB" and carried as 300 in JSON:
-/// exact nulls of a sinc response are infinitely deep.
-pub const ATTENUATION_CEILING_DB: f64 = 300.0;
-
-/// Make a value writable as JSON (which has no infinity): ±infinity, which only an
-/// exact null of a response can produce, becomes ±[`ATTENUATION_CEILING_DB`]; NaN, which
-/// no computation should produce, becomes 0.
-pub fn finite(x: f64) -> f64 {
-    if x.is_nan() {
-        0.0
-    } else if x.is_infinite() {
-        ATTENUATION_CEILING_DB.copysign(x)
-    } else {
-        // Adding +0 turns a negative zero into zero (docs/model.md §6) and changes
-        // nothing else.
-        x + 0.0
-    }
-}
-
-/// An attenuation for messages: `11.97 dB`, or `> 300 dB` past the ceiling.
-pub fn format_db(db: f64) -> String {
-    if db >= ATTENUATION_CEILING_DB {
-        format!("> {ATTENUATION_CEILING_DB:.0} dB")
-    } else {
-        format!("{:.2} dB", if db.abs() < 0.005 { 0.0 } else { db })
-    }
-}
-
-/// A required attenuation for messages: `98.08 dB`. Never capped (docs/model.md §6): a
-/// requirement is shown as configured, however large.
-pub fn format_required_db(db: f64) -> String {
-    format!("{:.2} dB", if db.abs() < 0.005 { 0.0 } else { db })
-}
-
-/// Round to a number of decimals, for JSON values that users compare by eye.
-pub fn round_to(x: f64, decimals: i32) -> f64 {
-    let p = 10f64.powi(decimals);
-    (x * p).round() / p
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn infinite_attenuation_stays_valid_json() {
-        assert_eq!(finite(f64::INFINITY), ATTENUATION_CEILING_DB);
-        assert_eq!(finite(12.5), 12.5);
-        assert!(finite(-0.0).is_sign_positive(), "no negative zero in JSON");
-        assert_eq!(finite(1e6), 1e6);
-        assert_eq!(format_db(f64::INFINITY), "> 300 dB");
-        assert_eq!(format_db(11.974), "11.97 dB");
-        assert_eq!(format_db(-0.001), "0.00 dB");
-        assert_eq!(format_required_db(320.0), "320.00 dB");
     }
 }

@@ -25,3 +25,4 @@ pub mod sheet;
 pub mod signal;
 pub mod source;
 pub mod suppress;
+pub mod words;

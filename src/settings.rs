@@ -166,7 +166,7 @@ pub fn parse(path: &Path, text: &str) -> Result<Settings, SettingsError> {
     for (name, level) in raw.rules {
         if crate::rules::rule(&name).is_none() {
             let names = crate::rules::RULES.iter().map(|r| r.name);
-            let hint = crate::resolve::closest(&name, names)
+            let hint = crate::words::closest(&name, names)
                 .map(|b| format!("; did you mean `{b}`?"))
                 .unwrap_or_default();
             // The key's span is not kept by the parser: point at the value.

@@ -227,7 +227,7 @@ s.comment, "cannot be suppressed",
             continue;
         }
         if let Some(u) = unknown.first() {
-            let hint = crate::resolve::closest(u, crate::rules::RULES.iter().map(|r| r.name))
+            let hint = crate::words::closest(u, crate::rules::RULES.iter().map(|r| r.name))
                 .map(|b| format!("did you mean `{b}`?"))
                 .unwrap_or_else(|| "`foldcheck rules` lists the rules".to_string());
             out.push(

@@ -7,7 +7,8 @@
 //! the unit's SI scale: powers of 1000, powers of 1024 for the binary prefixes, 60, 3600
 //! and 86 400 for the time units), independently of the parser's own digit handling.
 
-use foldcheck::model::quantity::{Exact, Kind, format_hz, parse, to_f64};
+use foldcheck::model::quantity::{Exact, Kind, parse, to_f64};
+use foldcheck::words::format_hz;
 use proptest::prelude::*;
 
 const KINDS: [Kind; 6] = Kind::ALL;

@@ -2,7 +2,8 @@
 //! random inputs with proptest. The invariants follow from the definitions in docs/model.md, "Filter responses"
 //! (closed forms, pole-based phases) rather than from any single reference value.
 
-use foldcheck::signal::analog::{Analog, AnalogKind, MAX_ORDER};
+use foldcheck::signal::MAX_ORDER;
+use foldcheck::signal::analog::{Analog, AnalogKind};
 use foldcheck::signal::design::max_cutoff_for;
 use foldcheck::signal::digital::{digital_attenuation_db, sinc_attenuation_db};
 use foldcheck::signal::fold::fold;

@@ -5,7 +5,8 @@
 use std::f64::consts::PI;
 use std::path::Path;
 
-use foldcheck::signal::analog::{Analog, AnalogKind, MAX_ORDER};
+use foldcheck::signal::MAX_ORDER;
+use foldcheck::signal::analog::{Analog, AnalogKind};
 use foldcheck::signal::design::{max_cutoff_for, min_order_for};
 use foldcheck::signal::digital::{digital_attenuation_db, sinc_attenuation_db, sinc_delay_samples};
 use foldcheck::signal::fold::{

@@ -15,11 +15,12 @@
 //! identical channels of a rig share one search.
 
 use super::{ChannelAnalysis, Context, Limits, RateAnalysis, analyse_rates, module_allows};
-use crate::finding::{Edit, format_db};
-use crate::model::quantity::{Exact, format_hz, to_f64};
+use crate::finding::Edit;
+use crate::model::quantity::{Exact, to_f64};
 use crate::model::{ClockDef, Response, ordinal};
 use crate::resolve::{FilterOrigin, RChannel, Rig};
 use crate::source::Span;
+use crate::words::{format_db, format_hz};
 use num_traits::{CheckedDiv, CheckedMul};
 use std::collections::HashMap;
 use std::fmt::Write as _;

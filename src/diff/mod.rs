@@ -21,11 +21,12 @@ mod render;
 
 use crate::analysis;
 use crate::campaign::{self, Fatal, Options, Outcome, RigOutcome};
-use crate::finding::{ATTENUATION_CEILING_DB, Finding, Severity, finite};
+use crate::finding::{Finding, Severity};
 use crate::model::quantity::Exact;
 use crate::model::{Filter, Module, Response, Sensor, Sp};
 use crate::resolve::{RChannel, Rig};
 use crate::source::FileId;
+use crate::words::{ATTENUATION_CEILING_DB, finite};
 use num_traits::CheckedDiv;
 use serde_json::Value;
 use std::collections::{BTreeMap, BTreeSet, HashMap};

@@ -2,10 +2,10 @@
 //! every number and cause is worked out in the comparison.
 
 use super::{Alias, ChannelChange, ClockChange, Diff, DiffFinding, Metrics, RigStatus, Status};
-use crate::finding::{Severity, format_db, round_to};
-use crate::model::quantity::{Exact, format_hz, sig6, to_f64};
-use crate::report::plural;
+use crate::finding::Severity;
+use crate::model::quantity::{Exact, to_f64};
 use crate::source::escape_control;
+use crate::words::{format_db, format_hz, plural, round_to, sig6};
 use serde_json::{Map, Value, json};
 
 const NONE: &str = "—";

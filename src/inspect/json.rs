@@ -3,7 +3,7 @@
 //! Frequencies are floating-point Hz, levels dB, phases degrees. JSON has no infinity:
 //! an attenuation that is infinitely deep (an exact null of a sinc response) is carried
 //! as 300, the ceiling below which attenuations are printed as numbers
-//! ([`crate::finding::ATTENUATION_CEILING_DB`]; the text form prints `> 300 dB`).
+//! ([`crate::words::ATTENUATION_CEILING_DB`]; the text form prints `> 300 dB`).
 //! Keys are always present; a value that does not apply is `null`.
 //!
 //! ```text
@@ -88,9 +88,9 @@
 //! }
 //! ```
 
-use super::{DelayInfo, DisturbanceOutcome, Inspection, exact_string};
-use crate::finding::finite;
+use super::{DelayInfo, DisturbanceOutcome, Inspection};
 use crate::model::quantity::to_f64;
+use crate::words::{exact_string, finite};
 use serde_json::{Value, json};
 
 fn num(x: f64) -> Value {

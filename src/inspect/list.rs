@@ -9,10 +9,11 @@
 
 use crate::campaign::Outcome;
 use crate::finding::{Finding, Severity};
-use crate::model::quantity::{format_hz, sig6, to_f64};
+use crate::model::quantity::to_f64;
+use crate::resolve::Rig;
 use crate::resolve::chain::Chain;
-use crate::resolve::{self, Rig};
 use crate::source::FileId;
+use crate::words::{format_hz, sig6};
 use serde_json::{Value, json};
 use std::path::{Path, PathBuf};
 
@@ -74,7 +75,7 @@ pub fn pick_rig(out: &Outcome, file: &Path, channel: &str) -> Result<usize, Stri
                 .iter()
                 .filter_map(|r| r.rig.as_ref())
                 .flat_map(|g| g.channels.iter().map(|c| c.def.name.value.as_str()));
-            let hint = resolve::closest(channel, names)
+            let hint = crate::words::closest(channel, names)
                 .map(|b| format!("; did you mean `{b}`?"))
                 .unwrap_or_default();
             Err(format!(

@@ -16,12 +16,13 @@ pub mod text;
 use crate::analysis::{self, Context, Enabled, Verdict};
 use crate::campaign::{self, Options};
 use crate::finding::{Finding, Severity};
-use crate::model::quantity::{self, Exact, Kind, format_hz, to_f64};
+use crate::model::quantity::{self, Exact, to_f64};
 use crate::model::{ClockDef, Filter};
 use crate::resolve::chain::Chain;
-use crate::resolve::{self, Origin, RChannel, Rig, ThresholdSettings};
+use crate::resolve::{Origin, RChannel, Rig, ThresholdSettings};
 use crate::settings;
 use crate::source::{Sources, Span};
+use crate::words::{db_text, format_hz};
 use std::path::{Path, PathBuf};
 
 /// Show one channel's chain: the text (or JSON) for stdout; with `plot`, also write its
@@ -111,7 +112,7 @@ fn unknown_channel(rig: &Rig, name: &str) -> String {
     if rig.channels.is_empty() {
         return format!("{rig_name} has no channels");
     }
-    match resolve::closest(name, names()) {
+    match crate::words::closest(name, names()) {
         Some(best) => format!("{rig_name} has no channel `{name}`; did you mean `{best}`?"),
         None => {
             let mut known: Vec<&str> = names().collect();
@@ -359,39 +360,6 @@ pub use crate::analysis::{
     AliasCheck, DelayInfo, DisturbanceInfo, DisturbanceOutcome, DisturbanceStep, PassbandInfo,
     RateAnalysis as Analysis, ResonanceCheck, StageInfo,
 };
-
-/// An attenuation for labels: `11.97 dB`, `90 dB`, `> 300 dB`.
-pub fn db_text(db: f64) -> String {
-    crate::finding::format_db(db).replace(".00 dB", " dB")
-}
-
-/// A frequency for people: `48 kHz`, and the exact value when six significant digits
-/// cannot show it (`3.51086 MHz (exactly 24576000/7 Hz)`).
-pub fn rate_text(rate: &Exact) -> String {
-    let shown = format_hz(to_f64(rate));
-    match exact_suffix(rate) {
-        Some(exact) => format!("{shown} ({exact})"),
-        None => shown,
-    }
-}
-
-/// "exactly 24576000/7 Hz" when the six-digit form of `rate` is not exact.
-pub fn exact_suffix(rate: &Exact) -> Option<String> {
-    let shown = format_hz(to_f64(rate));
-    if quantity::parse(&shown, Kind::Frequency).is_ok_and(|back| back == *rate) {
-        return None;
-    }
-    Some(format!("exactly {} Hz", exact_string(rate)))
-}
-
-/// An exact rate as `N` or `N/D` (Hz).
-pub fn exact_string(rate: &Exact) -> String {
-    if rate.is_integer() {
-        rate.numer().to_string()
-    } else {
-        format!("{}/{}", rate.numer(), rate.denom())
-    }
-}
 
 fn position(sources: &Sources, span: Span) -> String {
     let sf = sources.get(span.file);
@@ -799,7 +767,7 @@ pub fn plot_data(rig: &Rig, ci: usize, ins: &Inspection) -> Option<plot::PlotDat
                 label: format!(
                     "{name} = {}: {}",
                     format_hz(al.fold_from_hz),
-                    crate::finding::format_db(al.attenuation_db)
+                    crate::words::format_db(al.attenuation_db)
                 ),
                 pass: Some(al.pass),
                 required_db: None,
@@ -838,8 +806,8 @@ pub fn plot_data(rig: &Rig, ci: usize, ins: &Inspection) -> Option<plot::PlotDat
                 label: format!(
                     "resonance {} (+{} dB){lands}: net {}",
                     format_hz(fr),
-                    quantity::sig6(gain),
-                    crate::finding::format_db(r.net_db)
+                    crate::words::sig6(gain),
+                    crate::words::format_db(r.net_db)
                 ),
                 pass: r.pass,
                 required_db: None,
@@ -857,7 +825,7 @@ pub fn plot_data(rig: &Rig, ci: usize, ins: &Inspection) -> Option<plot::PlotDat
                         d.name,
                         format_hz(d.frequency_hz),
                         format_hz(st.map_or(0.0, |s| s.lands_at_hz)),
-                        crate::finding::format_db(att),
+                        crate::words::format_db(att),
                         db_text(d.required_db)
                     ),
                     att,
@@ -1030,8 +998,8 @@ fn group_phase_panel(rig: &Rig, ci: usize) -> Option<plot::PhasePanel> {
             let label = format!(
                 "{}: latency {} (digital {})",
                 rig.channels[*c].def.name.value,
-                quantity::format_seconds(chain.latency_s()),
-                quantity::format_seconds(chain.digital_delay_s())
+                crate::words::format_seconds(chain.latency_s()),
+                crate::words::format_seconds(chain.digital_delay_s())
             );
             (label, pts)
         })

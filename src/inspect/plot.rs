@@ -8,8 +8,7 @@
 //! resonance and disturbance tones. Everything drawn is worked out by
 //! [`super::plot_data`]; this module only lays it out.
 
-use crate::finding::ATTENUATION_CEILING_DB;
-use crate::model::quantity::format_hz;
+use crate::words::{ATTENUATION_CEILING_DB, format_hz};
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
@@ -673,7 +672,7 @@ fn draw(d: &PlotData, svg: &mut String) -> DrawResult {
                 c.stroke_width(3),
             ))?;
             root.draw(&Text::new(
-                format!("needs {}", super::db_text(r)),
+                format!("needs {}", crate::words::db_text(r)),
                 (x + 26, y),
                 (FONT, LABEL_FONT)
                     .into_font()
@@ -752,7 +751,7 @@ fn draw(d: &PlotData, svg: &mut String) -> DrawResult {
     // A value at the required line's right end.
     let (rx, ry) = chart.backend_coord(&(d.f_max, -d.required_db));
     root.draw(&Text::new(
-        super::db_text(d.required_db),
+        crate::words::db_text(d.required_db),
         (rx - 4, ry - 4),
         (FONT, LABEL_FONT)
             .into_font()
@@ -820,7 +819,7 @@ fn draw_phase(root: &DrawingArea<SVGBackend, Shift>, p: &PhasePanel, top: i32) -
         .x_labels(6)
         .y_labels(6)
         .x_label_formatter(&|f| format_hz(*f))
-        .y_label_formatter(&|y| crate::model::quantity::sig6((y * 10.0).round() / 10.0))
+        .y_label_formatter(&|y| crate::words::sig6((y * 10.0).round() / 10.0))
         .x_desc("frequency")
         .y_desc("phase (deg)")
         .label_style((FONT, 16.0))

@@ -1,11 +1,9 @@
 //! The human form of `inspect`: plain text, one fact a line, the numbers with units.
 
-use super::{
-    ClockInfo, DelayInfo, DisturbanceOutcome, Inspection, StageInfo, db_text, exact_suffix,
-    rate_text,
+use super::{ClockInfo, DelayInfo, DisturbanceOutcome, Inspection, StageInfo};
+use crate::words::{
+    db_text, exact_suffix, format_bytes, format_db, format_hz, format_seconds, rate_text, sig6,
 };
-use crate::finding::format_db;
-use crate::model::quantity::{format_bytes, format_hz, format_seconds, sig6};
 use std::fmt::Write;
 
 const KEY: usize = 20;
@@ -437,7 +435,7 @@ fn zero(x: f64) -> f64 {
 }
 
 fn round4(x: f64) -> f64 {
-    crate::finding::round_to(x, 4)
+    crate::words::round_to(x, 4)
 }
 
 fn stage(out: &mut String, s: &StageInfo, b: f64) {

@@ -5,12 +5,12 @@
 
 use super::snapshot::{Snapshot, SymbolKind, Target};
 use crate::analysis::{self, ChannelAnalysis, Context, Enabled, StageInfo};
-use crate::inspect::{db_text, rate_text};
-use crate::model::quantity::{format_hz, format_seconds, sig6, to_f64};
+use crate::model::quantity::to_f64;
 use crate::model::{ClockDef, Filter};
 use crate::resolve::Rig;
 use crate::resolve::chain::Chain;
 use crate::source::Span;
+use crate::words::{db_text, format_hz, format_seconds, rate_text, sig6};
 
 /// The Markdown for a target, if there is anything to say.
 pub fn hover(snap: &Snapshot, target: Target) -> Option<String> {

@@ -697,8 +697,8 @@ stopband.span, "not below half the input rate",
                             "not above the point before it",
                             format!(
                                 "table points must rise in frequency, but {} follows {}",
-                                quantity::format_hz(f.value),
-                                quantity::format_hz(prev)
+                                crate::words::format_hz(f.value),
+                                crate::words::format_hz(prev)
                             ),
                         )
                         .with_help("list the points in order of rising frequency"),

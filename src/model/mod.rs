@@ -9,6 +9,7 @@ pub mod quantity;
 pub mod schema;
 
 use crate::source::{FileId, Span};
+use crate::words::format_hz;
 pub use quantity::Exact;
 
 /// A value and the span of its YAML node.
@@ -412,7 +413,6 @@ impl Response {
 
     /// A short description, e.g. "4th-order Butterworth at 20 kHz".
     pub fn describe(&self) -> String {
-        use quantity::format_hz;
         match self {
             Response::Butterworth { order, cutoff } => {
                 format!(
@@ -431,14 +431,14 @@ impl Response {
             } => format!(
                 "{}-order Chebyshev ({} dB ripple) at {}",
                 ordinal(*order),
-                quantity::sig6(*ripple),
+                crate::words::sig6(*ripple),
                 format_hz(*cutoff)
             ),
             Response::Table { points } => format!("table of {} points", points.len()),
             Response::Digital { attenuation, .. } => {
                 format!(
                     "digital filter ({} dB stopband)",
-                    quantity::sig6(*attenuation)
+                    crate::words::sig6(*attenuation)
                 )
             }
             Response::Sinc { order } => format!("{}-order sinc", ordinal(*order)),

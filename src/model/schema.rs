@@ -526,7 +526,7 @@ prev_value.span.join(&key_span), "a decimal comma",
         ),
         _ => (
             format!("unknown key `{}` in {what}", shown(name)),
-            match crate::resolve::closest(name, known.iter().map(String::as_str)) {
+            match crate::words::closest(name, known.iter().map(String::as_str)) {
                 Some(best) => format!("did you mean `{best}`?"),
                 None if !known.is_empty() => format!(
                     "the keys here are {}",
@@ -599,7 +599,7 @@ fn enum_finding(node: &Node, at: &Place, options: &[&str]) -> Finding {
             format!("use {list}"),
         )
     } else {
-        let best = crate::resolve::closest(&value.to_lowercase(), options.iter().copied());
+        let best = crate::words::closest(&value.to_lowercase(), options.iter().copied());
         (
             format!("{written} is not a known `{key}`"),
             "unknown".to_string(),
@@ -704,7 +704,7 @@ fn range_at(schema_path: &str) -> Option<String> {
     let parent = schema_path.rsplit_once('/')?.0;
     let node = schema_value().pointer(parent)?;
     let num = |k: &str| node.get(k).and_then(Value::as_f64);
-    let fmt = |x: f64| crate::model::quantity::sig6(x);
+    let fmt = |x: f64| crate::words::sig6(x);
     let whole = node.get("type").and_then(Value::as_str) == Some("integer");
     let lower = num("minimum")
         .map(|m| (m, true))

@@ -1,8 +1,9 @@
 //! The human format: miette's graphical reports, one per finding, and a summary line.
 
-use super::{Counts, plural};
+use super::Counts;
 use crate::finding::{Finding, Label, Severity};
 use crate::source::{Excerpt, SourceFile, Sources, escape_control};
+use crate::words::plural;
 use miette::{
     Diagnostic, GraphicalReportHandler, GraphicalTheme, LabeledSpan, MietteError,
     MietteSpanContents, SourceCode, SourceSpan, SpanContents,

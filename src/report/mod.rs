@@ -46,27 +46,3 @@ impl Counts {
         }
     }
 }
-
-/// A duration for messages: `72 h`, `1.5 min`, `40 s`, `3 d`.
-pub fn format_duration(seconds: f64) -> String {
-    use crate::model::quantity::sig6;
-    let s = seconds;
-    if s >= 2.0 * 86_400.0 {
-        format!("{} d", sig6((s / 86_400.0 * 100.0).round() / 100.0))
-    } else if s >= 3_600.0 {
-        format!("{} h", sig6((s / 3_600.0 * 100.0).round() / 100.0))
-    } else if s >= 60.0 {
-        format!("{} min", sig6((s / 60.0 * 100.0).round() / 100.0))
-    } else {
-        format!("{} s", sig6((s * 100.0).round() / 100.0))
-    }
-}
-
-/// "3 errors, 1 warning, 0 notes".
-pub fn plural(n: usize, word: &str) -> String {
-    if n == 1 {
-        format!("1 {word}")
-    } else {
-        format!("{n} {word}s")
-    }
-}

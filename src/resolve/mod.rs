@@ -8,9 +8,10 @@ mod clocks;
 
 use crate::declared;
 use crate::finding::{Edit, Finding, Fix};
-use crate::model::quantity::{Exact, format_hz, to_f64};
+use crate::model::quantity::{Exact, to_f64};
 use crate::model::*;
 use crate::source::{FileId, Span};
+use crate::words::{closest, closest_unambiguous, format_hz};
 use std::collections::HashMap;
 
 pub use chain::RateChange;
@@ -248,35 +249,6 @@ impl Rig {
     /// Find a channel by name.
     pub fn channel(&self, name: &str) -> Option<usize> {
         self.channels.iter().position(|c| c.def.name.value == name)
-    }
-}
-
-/// The closest name among `candidates` (Jaro-Winkler, with a floor), for "did you mean".
-pub fn closest<'a>(name: &str, candidates: impl Iterator<Item = &'a str>) -> Option<&'a str> {
-    candidates
-        .map(|c| (strsim::jaro_winkler(name, c), c))
-        .filter(|(score, _)| *score >= 0.75)
-        // Ties go to the name that sorts first, so the answer never depends on the
-        // order candidates come in (hash maps).
-        .max_by(|a, b| a.0.total_cmp(&b.0).then_with(|| b.1.cmp(a.1)))
-        .map(|(_, c)| c)
-}
-
-/// The closest name when no other candidate is as close (for a fix, which must be
-/// certain; "did you mean" may still name one of several equally close names).
-pub fn closest_unambiguous<'a>(
-    name: &str,
-    candidates: impl Iterator<Item = &'a str>,
-) -> Option<&'a str> {
-    let mut scored: Vec<(f64, &str)> = candidates
-        .map(|c| (strsim::jaro_winkler(name, c), c))
-        .filter(|(score, _)| *score >= 0.75)
-        .collect();
-    scored.sort_by(|a, b| b.0.total_cmp(&a.0).then_with(|| a.1.cmp(b.1)));
-    match scored[..] {
-        [(_, only)] => Some(only),
-        [(a, best), (b, _), ..] if a > b => Some(best),
-        _ => None,
     }
 }
 
@@ -771,31 +743,5 @@ fn unchecked(rig: &Rig, names: &[&Names], defs: &[Channel]) -> Unchecked {
     Unchecked {
         references: deferred.len(),
         channels,
-    }
-}
-
-/// A clock's rate for messages, or "an unknown rate".
-pub fn rate_text(rate: Option<Exact>) -> String {
-    rate.map(|r| format_hz(to_f64(&r)))
-        .unwrap_or_else(|| "an unknown rate".to_string())
-}
-
-#[cfg(test)]
-mod tests {
-    use super::closest;
-
-    #[test]
-    fn closest_name_ties_do_not_depend_on_order() {
-        // Regression: a hash map's order once decided between equally close names.
-        assert_eq!(
-            closest("temp-3", ["temp-2", "temp-1"].into_iter()),
-            Some("temp-1")
-        );
-        assert_eq!(
-            closest("temp-3", ["temp-1", "temp-2"].into_iter()),
-            Some("temp-1")
-        );
-        assert_eq!(closest("bsae", ["base", "spare"].into_iter()), Some("base"));
-        assert_eq!(closest("xyz", ["base"].into_iter()), None);
     }
 }

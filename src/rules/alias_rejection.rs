@@ -4,9 +4,9 @@ use super::rates::{rate_channels, rate_labels, with_fix_or_help};
 use super::{Rule, Stage};
 use crate::analysis::RigAnalysis;
 use crate::declared;
-use crate::finding::{Finding, Label, format_db, format_required_db, round_to};
-use crate::model::quantity::format_hz;
+use crate::finding::{Finding, Label};
 use crate::resolve::Origin;
+use crate::words::{format_db, format_hz, format_required_db, round_to};
 
 /// `alias-rejection`.
 pub static ALIAS_REJECTION: Rule = Rule {
@@ -88,7 +88,7 @@ fn check(a: &RigAnalysis, out: &mut Vec<Finding>) {
             (Some((fr, gain)), _) => format!(
                 "the {} resonance (+{} dB) of `{name}`'s sensor folds to {} {at} with a net {} of attenuation, {} needed",
                 format_hz(fr),
-                crate::model::quantity::sig6(gain),
+                crate::words::sig6(gain),
                 format_hz(w.folds_to_hz),
                 format_db(w.attenuation_db),
                 format_required_db(required)
@@ -112,7 +112,7 @@ fn check(a: &RigAnalysis, out: &mut Vec<Finding>) {
                         "the chain gives {} at {}; less the sensor's {} dB resonance, {}",
                         format_db(w.attenuation_db + gain),
                         format_hz(w.fold_from_hz),
-                        crate::model::quantity::sig6(gain),
+                        crate::words::sig6(gain),
                         format_db(w.attenuation_db)
                     ),
                     None => format!(

@@ -7,9 +7,10 @@ use crate::analysis::RigAnalysis;
 use crate::declared;
 use crate::finding::Finding;
 use crate::fingerprint::segment;
-use crate::model::quantity::{format_bytes, to_f64};
+use crate::model::quantity::to_f64;
 use crate::resolve::Rig;
 use crate::resolve::chain::Chain;
+use crate::words::format_bytes;
 
 /// `throughput`.
 pub static THROUGHPUT: Rule = Rule {
@@ -202,7 +203,7 @@ fn check_storage(a: &RigAnalysis, out: &mut Vec<Finding>) {
                 format!(
                     "recording {} for {} needs {}, more than the logger's {}",
                     format_bytes(rate, true),
-                    crate::report::format_duration(duration.value),
+                    crate::words::format_duration(duration.value),
                     format_bytes(bytes, false),
                     format_bytes(storage.value, false)
                 ),
@@ -211,7 +212,7 @@ fn check_storage(a: &RigAnalysis, out: &mut Vec<Finding>) {
             .with_subject("logger")
             .with_help(format!(
                 "record for at most {}, add storage, or lower the data rate",
-                crate::report::format_duration(storage.value / rate)
+                crate::words::format_duration(storage.value / rate)
             ))
             .with_f64("bytes", bytes)
             .with_f64("limit_bytes", storage.value),

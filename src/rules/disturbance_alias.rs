@@ -4,9 +4,9 @@ use super::rates::{rate_channels, rate_labels, with_fix_or_help};
 use super::{Rule, Stage};
 use crate::analysis::RigAnalysis;
 use crate::declared;
-use crate::finding::{Finding, Label, format_db, round_to};
+use crate::finding::{Finding, Label};
 use crate::fingerprint::segment;
-use crate::model::quantity::{format_hz, sig6};
+use crate::words::{format_db, format_hz, round_to, sig6};
 
 /// `disturbance-alias`.
 pub static DISTURBANCE_ALIAS: Rule = Rule {

@@ -3,13 +3,14 @@
 use super::{Rule, Stage};
 use crate::analysis::RigAnalysis;
 use crate::declared;
-use crate::finding::{Finding, round_to};
+use crate::finding::Finding;
 use crate::fingerprint::segment;
-use crate::model::quantity::{format_hz, format_seconds, sig6, to_f64};
+use crate::model::quantity::to_f64;
 use crate::model::{Filter, Group, Response};
 use crate::resolve::Rig;
 use crate::resolve::chain::Chain;
 use crate::source::Span;
+use crate::words::{format_hz, format_seconds, round_to, sig6};
 
 /// `group-clock`.
 pub static GROUP_CLOCK: Rule = Rule {
@@ -307,7 +308,7 @@ fn phase_finding(
     let ref_span = |c: usize| member_span(g, name_of(c));
     let (an, bn) = (name_of(a), name_of(b));
     let at = format_hz(cmp.frequency_hz);
-    let diff = crate::finding::round_to(cmp.phase_difference_deg, 2) + 0.0;
+    let diff = crate::words::round_to(cmp.phase_difference_deg, 2) + 0.0;
     // The member that lags more carries the primary label; each label shows its phase.
     let label = |deg: f64| format!("{} deg at {at}", sig6(round_to(deg, 2) + 0.0));
     let ((lagging, lag_deg), (leading, lead_deg)) = if cmp.phase_difference_deg < 0.0 {

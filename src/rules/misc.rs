@@ -5,9 +5,10 @@ use super::rates::{clock_labels, rate_channels};
 use super::{Rule, Stage};
 use crate::analysis::{ModuleLimit, RigAnalysis};
 use crate::declared;
-use crate::finding::{Finding, Label, format_db, round_to};
+use crate::finding::{Finding, Label};
 use crate::fingerprint::segment;
-use crate::model::quantity::{format_hz, sig6, to_f64};
+use crate::model::quantity::to_f64;
+use crate::words::{format_db, format_hz, round_to, sig6};
 
 /// `module-rate`.
 pub static MODULE_RATE: Rule = Rule {

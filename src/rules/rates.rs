@@ -4,10 +4,11 @@ use super::{Rule, Stage};
 use crate::analysis::RigAnalysis;
 use crate::analysis::{ChannelAnalysis, RateAnalysis, StageInfo};
 use crate::declared;
-use crate::finding::{Finding, Fix, Label, round_to};
+use crate::finding::{Finding, Fix, Label};
 use crate::model::ClockDef;
-use crate::model::quantity::{format_hz, sig6, to_f64};
+use crate::model::quantity::to_f64;
 use crate::resolve::{RChannel, Rig};
+use crate::words::{format_hz, round_to, sig6};
 
 /// `nyquist`.
 pub static NYQUIST: Rule = Rule {
@@ -133,7 +134,7 @@ pub fn clock_labels(rig: &Rig, clock: usize) -> Vec<Label> {
                         format!(
                             "divides {from} by {} to {}",
                             d.value,
-                            crate::resolve::rate_text(c.rate)
+                            crate::words::rate_or_unknown(c.rate)
                         ),
                     )),
                     None if multiply.is_none() => labels.push(Label::new(

@@ -14,9 +14,9 @@
 
 use super::{Budget, GroupSheet, RigSheet, Row, Sheet, Status};
 use crate::finding::Severity;
+use crate::inspect::FindingInfo;
 use crate::inspect::text::clock_path;
-use crate::inspect::{FindingInfo, db_text, rate_text};
-use crate::model::quantity::{format_bytes, format_hz, format_seconds, sig6};
+use crate::words::{db_text, format_bytes, format_hz, format_seconds, rate_text, sig6};
 use maud::{DOCTYPE, Markup, PreEscaped, html};
 
 const STYLE: &str = include_str!("sheet.css");
@@ -245,8 +245,7 @@ fn channel_table(rig: &RigSheet, i: usize) -> Markup {
 fn row(r: &Row) -> Markup {
     let ins = &r.ins;
     let a = ins.analysis.as_ref();
-    let num =
-        |x: Option<f64>| x.map_or(String::new(), |x| format!("{}", crate::finding::finite(x)));
+    let num = |x: Option<f64>| x.map_or(String::new(), |x| format!("{}", crate::words::finite(x)));
     let search = format!(
         "{} {} {} {}",
         ins.channel,

@@ -6,8 +6,8 @@
 //! or `null` (JSON). CSV quoting is RFC 4180 (the `csv` crate).
 
 use super::{Row, Sheet};
-use crate::finding::finite;
 use crate::inspect::text::clock_path;
+use crate::words::finite;
 use serde_json::{Map, Value};
 
 /// The columns, in order: name and what it holds (units in the name).
@@ -92,7 +92,7 @@ fn cells(rig_file: &str, rig: Option<&str>, r: &Row) -> Vec<Cell> {
         opt_num(r.adc_rate_hz()),
         opt_num(a.map(|a| a.final_rate_hz)),
         opt_text(
-            a.map(|a| crate::inspect::exact_string(&a.final_rate))
+            a.map(|a| crate::words::exact_string(&a.final_rate))
                 .as_deref(),
         ),
         opt_num(ins.band.as_ref().map(|b| b.value)),

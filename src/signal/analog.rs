@@ -8,10 +8,7 @@
 
 use std::f64::consts::{LN_2, PI};
 
-use super::{DB_PER_LN_POWER, bessel, ln_1p_exp, ln_ratio};
-
-/// The highest filter order foldcheck accepts (docs/format.md: orders 1–12).
-pub const MAX_ORDER: u32 = 12;
+use super::{DB_PER_LN_POWER, MAX_ORDER, bessel, ln_1p_exp, ln_ratio};
 
 /// The family of an analog low-pass filter.
 #[derive(Clone, Copy, Debug, PartialEq)]

@@ -9,7 +9,7 @@
 
 use std::sync::OnceLock;
 
-use super::analog::MAX_ORDER;
+use super::MAX_ORDER;
 
 /// One order of the magnitude-normalised Bessel prototype.
 #[derive(Debug)]

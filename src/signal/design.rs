@@ -1,7 +1,8 @@
 //! Inverse problems behind fix suggestions: the cutoff or the order that reaches a
 //! required attenuation at a given frequency.
 
-use super::analog::{Analog, AnalogKind, MAX_ORDER, attenuation_at_ln_ratio};
+use super::MAX_ORDER;
+use super::analog::{Analog, AnalogKind, attenuation_at_ln_ratio};
 use super::{DB_PER_LN_POWER, ln_exp_m1};
 use std::f64::consts::LN_2;
 

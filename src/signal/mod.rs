@@ -18,6 +18,10 @@ pub mod table;
 
 use std::f64::consts::LN_10;
 
+/// The highest filter order foldcheck accepts (docs/format.md: orders 1–12). It lives
+/// here, above `analog` and `bessel`, so neither has to import the other for it.
+pub const MAX_ORDER: u32 = 12;
+
 /// Decibels per natural-log unit of a power ratio: 10 / ln 10.
 pub(crate) const DB_PER_LN_POWER: f64 = 10.0 / LN_10;
 
