@@ -801,9 +801,16 @@ pub fn absolute(p: &Path) -> PathBuf {
     let joined = if p.is_absolute() {
         p.to_path_buf()
     } else {
-        std::env::current_dir().unwrap_or_default().join(p)
+        current_dir().join(p)
     };
     normalize(&joined)
+}
+
+/// The working directory, asked of the system once: foldcheck never changes it, and
+/// asking costs a system call per path (a tenth of a campaign's time went there).
+fn current_dir() -> &'static Path {
+    static CWD: OnceLock<PathBuf> = OnceLock::new();
+    CWD.get_or_init(|| std::env::current_dir().unwrap_or_default())
 }
 
 /// Remove `.` and resolve `..` lexically.

@@ -59,8 +59,18 @@ pub fn run(command: Command) -> Outcome {
                     start.elapsed(),
                     color_for(color),
                 ),
+                // Streamed straight to stdout as each finding is serialised: the report
+                // is never held in memory whole.
                 CheckFormat::Json => {
-                    json::render(&out.sources, &out.findings, out.files, out.channels)
+                    use std::io::Write as _;
+                    let mut w = std::io::BufWriter::new(std::io::stdout().lock());
+                    match json::write(&mut w, &out.sources, &out.findings, out.files, out.channels)
+                        .and_then(|()| w.flush())
+                    {
+                        Ok(()) => String::new(),
+                        Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => String::new(),
+                        Err(e) => return Err(format!("foldcheck: cannot write the output: {e}")),
+                    }
                 }
                 // Streamed straight to stdout as each result is serialised.
                 CheckFormat::Sarif => {

@@ -119,6 +119,12 @@ impl Enabled {
     pub fn has(self, r: RateRule) -> bool {
         self.0 & r.bit() != 0
     }
+
+    /// Whether any rule that reads a channel's rates is computed (all but
+    /// `module-rate` and `sensor-band`, which read the resolved rig only).
+    pub fn any_rates(self) -> bool {
+        self.0 & !(RateRule::ModuleRate.bit() | RateRule::SensorBand.bit()) != 0
+    }
 }
 
 /// What an analysis needs besides the rig: the enabled rules and, for the fix search,
@@ -201,12 +207,21 @@ pub struct RigAnalysis<'r> {
     pub enabled: Enabled,
 }
 
-/// Analyse every channel of a rig.
+/// Channels analysed in one piece of work: a rig's channels are analysed in parallel
+/// (a large rig file uses every core), in pieces large enough that a small rig is not
+/// slowed by the hand-over.
+const CHANNELS_PER_TASK: usize = 64;
+
+/// Analyse every channel of a rig, in parallel; the result is in the rig's channel
+/// order whatever the threads do.
 pub fn analyse_rig<'r>(rig: &'r Rig, ctx: &Context) -> RigAnalysis<'r> {
+    use rayon::prelude::*;
     let limits = Limits::of(rig);
     RigAnalysis {
         rig,
         channels: (0..rig.channels.len())
+            .into_par_iter()
+            .with_min_len(CHANNELS_PER_TASK)
             .map(|i| analyse_with(rig, i, &limits, ctx))
             .collect(),
         enabled: ctx.enabled,
@@ -270,14 +285,17 @@ fn analyse_with(rig: &Rig, channel: usize, limits: &Limits, ctx: &Context) -> Ch
         .has(RateRule::SensorBand)
         .then(|| sensor_band(rig, ch))
         .flatten();
-    let rates = match rig.adc_rate(ch) {
-        Some(fs0) => analyse_rates(rig, channel, ch, fs0, limits, ctx.enabled),
-        None => Err(NotAnalysed::Unresolved),
-    };
-    let rates = if ch.ok {
-        rates
-    } else {
+    // Rules that are off are not computed: with every rule that reads the rates off,
+    // the chain is not even built.
+    let rates = if !ch.ok {
         Err(NotAnalysed::Unresolved)
+    } else if !ctx.enabled.any_rates() {
+        Err(NotAnalysed::RulesOff)
+    } else {
+        match rig.adc_rate(ch) {
+            Some(fs0) => analyse_rates(rig, channel, ch, fs0, limits, ctx.enabled),
+            None => Err(NotAnalysed::Unresolved),
+        }
     };
     let mut out = ChannelAnalysis {
         channel,
@@ -301,6 +319,8 @@ pub enum NotAnalysed {
     NoBand,
     /// Left out on purpose: the run analyses only some channels ([`analyse_only`]).
     OutOfScope,
+    /// Every rule that reads a channel's rates is `off` in the settings.
+    RulesOff,
 }
 
 impl NotAnalysed {
@@ -314,6 +334,9 @@ impl NotAnalysed {
                 "the channel has no `band` and its sensor no `bandwidth`, so nothing can be checked"
             }
             NotAnalysed::OutOfScope => "the channel was not analysed in this run",
+            NotAnalysed::RulesOff => {
+                "every rule that reads the channel's rates is off in the settings, so they are not analysed"
+            }
         }
     }
 }

@@ -81,31 +81,46 @@ pub fn fix_edits(sources: &Sources, fix: &Fix) -> Vec<Value> {
 /// The whole report. Each finding is turned into JSON text as it is reached, so the
 /// report's memory is its text, not a tree of every finding as well.
 pub fn render(sources: &Sources, findings: &[Finding], files: usize, channels: usize) -> String {
+    let mut out = Vec::new();
+    write(&mut out, sources, findings, files, channels).expect("writing to memory cannot fail");
+    String::from_utf8(out).expect("JSON text is UTF-8")
+}
+
+/// The whole report, written to `w` as each finding is serialised (the report is never
+/// held in memory whole: `foldcheck check --format json` streams it to stdout).
+pub fn write<W: std::io::Write>(
+    w: &mut W,
+    sources: &Sources,
+    findings: &[Finding],
+    files: usize,
+    channels: usize,
+) -> std::io::Result<()> {
     let c = Counts::of(findings);
-    let mut s = format!(
+    write!(
+        w,
         "{{\n  \"version\": 1,\n  \"files\": {files},\n  \"channels\": {channels},\n  \"findings\": ["
-    );
+    )?;
     for (i, f) in findings.iter().enumerate() {
-        s.push_str(if i == 0 { "\n" } else { ",\n" });
+        w.write_all(if i == 0 { b"\n" } else { b",\n" })?;
         let text =
             serde_json::to_string_pretty(&finding(sources, f)).expect("JSON values serialise");
         // Pretty JSON never holds a raw line break inside a string: indent by lines.
         for (k, line) in text.lines().enumerate() {
             if k > 0 {
-                s.push('\n');
+                w.write_all(b"\n")?;
             }
-            s.push_str("    ");
-            s.push_str(line);
+            w.write_all(b"    ")?;
+            w.write_all(line.as_bytes())?;
         }
     }
-    s.push_str(if findings.is_empty() {
-        "],\n"
+    w.write_all(if findings.is_empty() {
+        b"],\n"
     } else {
-        "\n  ],\n"
-    });
-    s.push_str(&format!(
+        b"\n  ],\n"
+    })?;
+    write!(
+        w,
         "  \"summary\": {{\n    \"error\": {},\n    \"warning\": {},\n    \"note\": {}\n  }}\n}}\n",
         c.error, c.warning, c.note
-    ));
-    s
+    )
 }

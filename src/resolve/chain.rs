@@ -408,6 +408,19 @@ impl<'a> Chain<'a> {
     pub fn total_phase_deg(&self, f: f64) -> f64 {
         self.phase_deg(f) - 360.0 * f * self.digital_delay_s()
     }
+
+    /// [`Chain::total_phase_deg`] as a function of `f`, with the chain's filters and
+    /// digital delay looked up once: the same value at every `f`, for callers that
+    /// evaluate it at hundreds of frequencies (a group's phase comparison).
+    pub fn total_phase_fn(&self) -> impl Fn(f64) -> f64 + use<> {
+        let analogs: Vec<Analog> = self
+            .filters_upto(self.changes.len() - 1, None)
+            .into_iter()
+            .filter_map(|(flt, _, _)| analog(&flt.response))
+            .collect();
+        let delay = self.digital_delay_s();
+        move |f| analogs.iter().map(|a| a.phase_deg(f)).sum::<f64>() - 360.0 * f * delay
+    }
     /// The worst image at rate change `upto` for a band of `band` Hz (docs/model.md
     /// §3): the frequency of the least attenuated point of every image band
     /// `[n·fs − B, n·fs + B]` (n ≥ 1) of the original axis, and the attenuation there.

@@ -279,11 +279,8 @@ pub struct PairComparison {
 
 /// Compare two chains over `(0, common]` (docs/model.md, "Groups").
 pub fn compare_pair(a: &Chain, b: &Chain, common: f64) -> PairComparison {
-    let (frequency_hz, phase_difference_deg) = crate::resolve::chain::max_phase_difference(
-        |f| a.total_phase_deg(f),
-        |f| b.total_phase_deg(f),
-        common,
-    );
+    let (frequency_hz, phase_difference_deg) =
+        crate::resolve::chain::max_phase_difference(a.total_phase_fn(), b.total_phase_fn(), common);
     PairComparison {
         phase_difference_deg,
         frequency_hz,
