@@ -329,6 +329,7 @@ impl<'a> Builder<'a> {
             item: node.span,
             kind: None,
             bandwidth: None,
+            bandwidth_unreadable: false,
             resonance: None,
             response: None,
         };
@@ -342,7 +343,11 @@ impl<'a> Builder<'a> {
                     }
                 }
                 "kind" => s.kind = self.string(v),
-                "bandwidth" => s.bandwidth = self.hz(v),
+                "bandwidth" => {
+                    let (bandwidth, broken) = self.scoped(|b| b.hz(v));
+                    s.bandwidth_unreadable = broken || bandwidth.is_none();
+                    s.bandwidth = bandwidth;
+                }
                 "resonance" => {
                     let mut frequency = None;
                     let mut gain = None;

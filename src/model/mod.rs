@@ -144,6 +144,9 @@ pub struct Sensor {
     pub kind: Option<Sp<String>>,
     /// Usable upper frequency in Hz.
     pub bandwidth: Option<Sp<Exact>>,
+    /// A `bandwidth` is written but could not be read (already reported): the channels
+    /// relying on it are not reported again for having no band.
+    pub bandwidth_unreadable: bool,
     /// Resonance.
     pub resonance: Option<Resonance>,
     /// The sensor's own roll-off.

@@ -139,7 +139,8 @@ pub static MISSING_BAND: Rule = Rule {
     explanation: "\
 Every check of a channel starts from its band B, the highest frequency of interest. It is
 the channel's `band`, or else its sensor's `bandwidth`. Without either, nothing can be
-checked.",
+checked. A sensor `bandwidth` that is written but cannot be read (a misspelt unit) is
+reported once, as `quantity`, not again here for every channel relying on it.",
     failing: "\
 format: 1
 rig: demo
@@ -178,6 +179,12 @@ fn check_missing_band(a: &RigAnalysis, out: &mut Vec<Finding>) {
     {
         if ch.def.sensor.is_some() && ch.sensor.is_none() {
             continue; // the unknown sensor is reported; its bandwidth may be the band
+        }
+        if ch
+            .sensor
+            .is_some_and(|s| rig.sensors[s].bandwidth_unreadable)
+        {
+            continue; // the sensor's unreadable `bandwidth` is reported: one typo, one finding
         }
         let name = &ch.def.name.value;
         let help = match ch.sensor.map(|s| &rig.sensors[s]) {
