@@ -744,9 +744,10 @@ pub struct PassbandInfo {
     pub attenuation_db: f64,
     /// Each filter's share, named by its place in the chain.
     pub contributions: Vec<(String, f64)>,
-    /// The filter that attenuates the band edge most ("channel filter: 4th-order …")
-    /// and where it is written.
-    pub largest: Option<(String, Span)>,
+    /// The filter that attenuates the band edge most ("channel filter: 4th-order …"),
+    /// where it is written, its response and rates: the cause a droop finding points
+    /// at.
+    pub largest: Option<crate::resolve::chain::Contribution>,
     /// The passband tolerance, dB.
     pub tolerance_db: f64,
     /// attenuation ≤ tolerance.
@@ -1157,8 +1158,7 @@ pub fn analyse_rates(
             largest: chain
                 .contributions(band_hz, last)
                 .into_iter()
-                .max_by(|x, y| x.db.total_cmp(&y.db))
-                .map(|c| (c.what, c.span)),
+                .max_by(|x, y| x.db.total_cmp(&y.db)),
             tolerance_db: tolerance,
             pass: droop <= tolerance + 1e-9,
         }

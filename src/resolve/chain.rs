@@ -112,6 +112,10 @@ pub struct Contribution {
     pub span: Span,
     /// Attenuation in dB.
     pub db: f64,
+    /// The filter's response.
+    pub response: Response,
+    /// Where it is placed (its rates).
+    pub placement: Placement,
 }
 
 impl<'a> Chain<'a> {
@@ -302,6 +306,8 @@ impl<'a> Chain<'a> {
                 what: format!("{what}: {}", flt.response.describe()),
                 span: flt.span,
                 db: filter_attenuation_db(&flt.response, f, at),
+                response: flt.response.clone(),
+                placement: at,
             })
             .collect()
     }

@@ -2,10 +2,11 @@
 
 use super::rates::{rate_channels, rate_labels, with_fix_or_help};
 use super::{Rule, Stage};
-use crate::analysis::RigAnalysis;
+use crate::analysis::{AliasFailure, RateAnalysis, RigAnalysis};
 use crate::declared;
 use crate::finding::{Finding, Label};
 use crate::resolve::Origin;
+use crate::signal::analog::{Analog, AnalogKind};
 use crate::words::{format_db, format_hz, format_required_db, round_to};
 
 /// `alias-rejection`.
@@ -164,11 +165,7 @@ fn check(a: &RigAnalysis, out: &mut Vec<Finding>) {
             _ => None,
         };
         let fallback = match w.modulator_hz {
-            Some(_) => format!(
-                "attenuate {} by another {} in the analog chain before the converter (a steeper or lower analog filter, e.g. one more Butterworth order); the converter's own filter does not help there",
-                format_hz(w.fold_from_hz),
-                format_db(required - w.attenuation_db)
-            ),
+            Some(_) => modulator_help(r, &w, rig.thresholds.passband_tolerance),
             None => format!(
                 "attenuate {} by another {} before this rate change (a steeper or lower anti-alias filter), or sample faster",
                 format_hz(w.fold_from_hz),
@@ -188,5 +185,37 @@ fn check(a: &RigAnalysis, out: &mut Vec<Finding>) {
             .with_f64("required_db", round_to(required, 3))
             .with_value("stage", w.stage);
         out.push(f);
+    }
+}
+
+/// The help for a modulator image when no verified fix exists: a Butterworth front end
+/// (order and cutoff) that reaches the requirement at the image and keeps the band edge
+/// within the passband tolerance, else the bare shortfall.
+fn modulator_help(r: &RateAnalysis, w: &AliasFailure, tolerance_db: f64) -> String {
+    let need = w.required_db - w.attenuation_db;
+    let droop_now = r.passband.as_ref().map_or(0.0, |p| p.attenuation_db);
+    let design = crate::signal::design::butterworth_front_end(
+        r.band_hz,
+        tolerance_db - droop_now,
+        w.fold_from_hz,
+        need,
+    );
+    match design {
+        Some((order, fc)) => {
+            let f = Analog::new(AnalogKind::Butterworth, order, fc);
+            format!(
+                "add an analog anti-alias filter before the converter, e.g. `{{ response: butterworth, order: {order}, cutoff: {} }}`: it attenuates {} by {} and the {} band edge by {}; the converter's own filter does not help there",
+                format_hz(fc),
+                format_hz(w.fold_from_hz),
+                format_db(f.attenuation_db(w.fold_from_hz)),
+                format_hz(r.band_hz),
+                format_db(f.attenuation_db(r.band_hz))
+            )
+        }
+        None => format!(
+            "attenuate {} by another {} in the analog chain before the converter (a steeper or lower analog filter); the converter's own filter does not help there",
+            format_hz(w.fold_from_hz),
+            format_db(need)
+        ),
     }
 }

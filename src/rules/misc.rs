@@ -7,7 +7,10 @@ use crate::analysis::{ModuleLimit, RigAnalysis};
 use crate::declared;
 use crate::finding::{Finding, Label};
 use crate::fingerprint::segment;
+use crate::model::Response;
 use crate::model::quantity::to_f64;
+use crate::resolve::chain::Contribution;
+use crate::signal::digital;
 use crate::words::{format_db, format_hz, round_to, sig6};
 
 /// `module-rate`.
@@ -254,17 +257,25 @@ fn check_droop(a: &RigAnalysis, out: &mut Vec<Finding>) {
         let (band, att, tol) = (r.band_hz, p.attenuation_db, p.tolerance_db);
         let name = &ch.def.name.value;
         let b = ch.band.as_ref().expect("rate channels have a band");
-        // The primary label sits on the filter that attenuates the band edge most (a
-        // decimation stage's filter is not the ADC chain).
+        // The primary label sits on the filter that attenuates the band edge most, the
+        // value to change (a sensor's response is not: its droop points at the band).
         let in_stage = p
             .largest
             .as_ref()
-            .filter(|(w, _)| w.starts_with("decimation"))
-            .map(|(_, s)| *s);
+            .filter(|c| !c.what.starts_with("sensor response"));
         let (span, label) = match (&ch.filters_span, in_stage) {
-            (_, Some(s)) => (
-                s,
-                format!("attenuates {} by {}", format_hz(band), format_db(att)),
+            (_, Some(c)) => (
+                c.span,
+                if format_db(c.db) == format_db(att) {
+                    format!("droops {} by {}", format_hz(band), format_db(c.db))
+                } else {
+                    format!(
+                        "droops {} by {} of the {}",
+                        format_hz(band),
+                        format_db(c.db),
+                        format_db(att)
+                    )
+                },
             ),
             (Some((span, _)), None) if !ch.filters.is_empty() => (
                 *span,
@@ -272,11 +283,6 @@ fn check_droop(a: &RigAnalysis, out: &mut Vec<Finding>) {
             ),
             _ => (b.span, format!("{} at the band edge", format_db(att))),
         };
-        let worst = p
-            .largest
-            .as_ref()
-            .map(|(w, _)| format!("; most of it comes from the {w}"))
-            .unwrap_or_default();
         let mut f = PASSBAND_DROOP
             .finding(span, label, format!(
                 "the chain of `{name}` attenuates its {} band edge by {}, more than the {} dB tolerance",
@@ -291,14 +297,124 @@ fn check_droop(a: &RigAnalysis, out: &mut Vec<Finding>) {
                 .push(Label::new(*s, format!("tolerance {} dB", sig6(tol))));
         }
         out.push(
-            f.with_help(format!(
-                "move the filter's cutoff further above the band edge{worst}"
-            ))
-            .with_f64("band_hz", band)
-            .with_f64("attenuation_db", round_to(att, 3))
-            .with_f64("tolerance_db", tol),
+            f.with_help(droop_help(p.largest.as_ref(), band, att, tol))
+                .with_f64("band_hz", band)
+                .with_f64("attenuation_db", round_to(att, 3))
+                .with_f64("tolerance_db", tol),
         );
     }
+}
+
+/// The help of a `passband-droop` finding, fitting the family of the filter that
+/// attenuates the band edge most (`cause`); `att` is the whole chain's droop at the band
+/// edge `band`, `tol` the tolerance (docs/model.md §2).
+fn droop_help(cause: Option<&Contribution>, band: f64, att: f64, tol: f64) -> String {
+    let Some(c) = cause else {
+        return "move the anti-alias filter's cutoff further above the band edge, or narrow the band"
+            .to_string();
+    };
+    // What the other filters leave for this one.
+    let budget = tol - (att - c.db);
+    let what = &c.what;
+    let place = what.split(": ").next().unwrap_or(what);
+    let in_decimation = place.starts_with("decimation");
+    match &c.response {
+        Response::Sinc { order } => {
+            let (fin, m) = c.placement.stage.unwrap_or((f64::NAN, 1));
+            // A sinc's droop is N times that of one order (−20·N·log10|…|, Hogenauer
+            // 1981): the highest order within the budget.
+            let per_order = c.db / f64::from(*order);
+            let lower_order = (1..*order)
+                .rev()
+                .find(|&n| f64::from(n) * per_order <= budget + 1e-9);
+            // With the order kept, the largest smaller factor within the budget.
+            let lower_factor = (2..m).rev().find(|&k| {
+                fin.is_finite()
+                    && digital::sinc_attenuation_db(*order, k, fin, band) <= budget + 1e-9
+            });
+            let mut ways = Vec::new();
+            if let Some(n) = lower_order {
+                ways.push(format!(
+                    "`order: {n}` droops {} in all",
+                    format_db(att - c.db + f64::from(n) * per_order)
+                ));
+            }
+            if let Some(k) = lower_factor {
+                ways.push(format!(
+                    "`factor: {k}` (order {order}) droops {} in all",
+                    format_db(att - c.db + digital::sinc_attenuation_db(*order, k, fin, band))
+                ));
+            }
+            ways.push(
+                "a compensating FIR stage after it (a passband rising by the sinc's droop) restores the band edge"
+                    .to_string(),
+            );
+            format!(
+                "a sinc has no cutoff to move: its droop at {} grows with its order and with its factor (the band is {} of its {} output rate); {}",
+                format_hz(band),
+                sig6(round_to(band / c.placement.output_rate, 4)),
+                format_hz(c.placement.output_rate),
+                ways.join("; ")
+            )
+        }
+        Response::Digital { .. } if band / c.placement.output_rate >= 0.5 => {
+            format!(
+                "the band edge is {} of this filter's {} output rate, more than a decimating filter can pass (below 0.5): {}",
+                sig6(round_to(band / c.placement.output_rate, 4)),
+                format_hz(c.placement.output_rate),
+                if in_decimation {
+                    "decimate less in this stage"
+                } else {
+                    "sample faster"
+                }
+            )
+        }
+        Response::Digital { passband_edge, .. } => {
+            let fout = c.placement.output_rate;
+            format!(
+                "this `digital` filter is flat only up to its `passband-edge` ({} × {} = {}): raise it to at least {} (the band edge ÷ the output rate), or {}",
+                sig6(*passband_edge),
+                format_hz(fout),
+                format_hz(passband_edge * fout),
+                sig6((band / fout * 1e4).ceil() / 1e4),
+                if in_decimation {
+                    "decimate less in this stage"
+                } else {
+                    "sample faster"
+                }
+            )
+        }
+        Response::Table { .. } => format!(
+            "the `table` response ({what}) attenuates the band edge by {}: choose a part or setting flatter at {}, or narrow the band",
+            format_db(c.db),
+            format_hz(band)
+        ),
+        Response::Butterworth { order, cutoff } if budget > 0.0 => {
+            // 10·log10(1 + (B/fc)^2n) ≤ budget  ⇔  fc ≥ B / (10^(budget/10) − 1)^(1/2n).
+            let fc = band / (10f64.powf(budget / 10.0) - 1.0).powf(1.0 / (2.0 * f64::from(*order)));
+            format!(
+                "move the {place}'s cutoff ({}-order Butterworth, now {}) to {} or higher: that keeps the chain's droop at {} within {} dB",
+                crate::model::ordinal(*order),
+                format_hz(*cutoff),
+                format_hz(round_up_sig3(fc)),
+                format_hz(band),
+                sig6(tol),
+            )
+        }
+        other => format!(
+            "move the {place}'s cutoff ({}) further above the band edge",
+            other.describe()
+        ),
+    }
+}
+
+/// `x` rounded up to three significant digits.
+fn round_up_sig3(x: f64) -> f64 {
+    if x <= 0.0 || !x.is_finite() {
+        return x;
+    }
+    let scale = 10f64.powi(x.log10().floor() as i32 - 2);
+    (x / scale - 1e-9).ceil() * scale
 }
 
 /// `sensor-band`.

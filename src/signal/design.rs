@@ -104,3 +104,82 @@ fn bisect_ln_ratio(kind: AnalogKind, order: u32, required_db: f64) -> Option<f64
     }
     Some(hi)
 }
+
+/// A Butterworth front end to add before a converter: the lowest order (1..=12) with a
+/// cutoff that attenuates `f_hz` by at least `required_db` while drooping the band edge
+/// `band_hz` by at most `droop_db`, and such a cutoff, rounded to two (else three)
+/// significant digits inside the allowed range. `None` when no order up to 12 does both,
+/// or the inputs make no sense (`droop_db ≤ 0`, `f_hz ≤ band_hz`).
+///
+/// Both bounds are [`max_cutoff_for`]: the highest cutoff reaching `required_db` at
+/// `f_hz`, and the highest cutoff that still attenuates `band_hz` by `droop_db` (every
+/// cutoff above it droops less).
+pub fn butterworth_front_end(
+    band_hz: f64,
+    droop_db: f64,
+    f_hz: f64,
+    required_db: f64,
+) -> Option<(u32, f64)> {
+    if !(droop_db > 0.0 && band_hz > 0.0 && f_hz > band_hz && required_db.is_finite()) {
+        return None;
+    }
+    let kind = AnalogKind::Butterworth;
+    (1..=MAX_ORDER).find_map(|order| {
+        let hi = if required_db <= 0.0 {
+            f64::INFINITY
+        } else {
+            max_cutoff_for(kind, order, f_hz, required_db)?
+        };
+        let lo = max_cutoff_for(kind, order, band_hz, droop_db)?;
+        if lo > hi {
+            return None;
+        }
+        let mid = if hi.is_finite() {
+            (lo * hi).sqrt()
+        } else {
+            2.0 * lo
+        };
+        let pick = [2, 3, 4]
+            .iter()
+            .map(|&digits| round_sig(mid, digits))
+            .find(|&c| c >= lo && c <= hi)
+            .unwrap_or(mid);
+        Some((order, pick))
+    })
+}
+
+/// `x` rounded to `digits` significant digits.
+fn round_sig(x: f64, digits: i32) -> f64 {
+    if x <= 0.0 || !x.is_finite() {
+        return x;
+    }
+    let scale = 10f64.powi(x.log10().floor() as i32 - (digits - 1));
+    (x / scale).round() * scale
+}
+
+#[cfg(test)]
+mod front_end_tests {
+    use super::*;
+
+    #[test]
+    fn the_front_end_reaches_the_image_and_keeps_the_band_flat() {
+        // The delta-sigma worked check of docs/model.md §4: band 20 kHz, first modulator
+        // image at 3.2568 MHz, 60 dB required, 0.5 dB droop allowed. A 1st-order
+        // Butterworth cannot do both (it would need a cutoff ≤ 3.26 kHz for the image
+        // but ≥ 57.3 kHz for the band: 10·log10(1 + (f/fc)²), closed form); a 2nd-order
+        // one can, between 33.8 kHz and 103 kHz.
+        let (order, fc) = butterworth_front_end(20e3, 0.5, 3.2568e6, 60.0).unwrap();
+        assert_eq!(order, 2);
+        assert!((33_800.0..=103_000.0).contains(&fc), "{fc}");
+        let f = Analog::new(AnalogKind::Butterworth, order, fc);
+        assert!(f.attenuation_db(3.2568e6) >= 60.0);
+        assert!(f.attenuation_db(20e3) <= 0.5);
+        // Closed form of the same: 10·log10(1 + (f/fc)^4).
+        let closed = |x: f64| 10.0 * (1.0 + (x / fc).powi(4)).log10();
+        assert!((f.attenuation_db(3.2568e6) - closed(3.2568e6)).abs() < 1e-9);
+        assert!((f.attenuation_db(20e3) - closed(20e3)).abs() < 1e-9);
+        // Nothing to design without a droop budget, or below the band.
+        assert_eq!(butterworth_front_end(20e3, 0.0, 3.2568e6, 60.0), None);
+        assert_eq!(butterworth_front_end(20e3, 0.5, 10e3, 60.0), None);
+    }
+}
