@@ -8,9 +8,16 @@
 //! - `analyse`: what the server runs on each change, `lsp::snapshot::analyse` with the
 //!   rig's text held in memory (the run, the resolved rig kept for navigation, the index
 //!   of names);
+//! - `analyse + verify all`: that analysis followed by verifying every proposed fix of
+//!   the document, which the server did on every change before fixes were verified
+//!   lazily (it now verifies a range when a code action asks for it);
 //! - `round-trip`: the release binary `foldcheck lsp` over stdio, from sending
 //!   `didSave` to receiving its `publishDiagnostics` (the whole server: analysis,
-//!   diagnostics with related information, JSON over the pipe; no debounce on save).
+//!   diagnostics with related information, JSON over the pipe; no debounce on save);
+//! - `verify one code action's range`: what a code action on one finding adds.
+//!
+//! It also prints how many findings' help lines differ from `check`'s before the fixes
+//! are verified (proposals that verification would drop) and after (must be 0).
 //!
 //! Each is timed `REPEATS` times (default 40) after two warm-up runs; the median and the
 //! fastest are printed, and the ratio of the medians to `check-core`.
@@ -94,6 +101,55 @@ fn main() {
         findings = snap.outcome.findings.len();
         std::hint::black_box(snap.occurrences.len());
     });
+    // What the server ran on each change before fixes were verified lazily: the same
+    // analysis, then every proposed fix of the document verified.
+    let analyse_verify = time(repeats, || {
+        let mut snap = snapshot::analyse(&path, overlay.clone());
+        snap.verify_range(0, usize::MAX);
+        std::hint::black_box(snap.occurrences.len());
+    });
+    // A code action on the first finding with a proposed fix: verifying that range only
+    // (the analysis before it is not timed).
+    let mut snap = snapshot::analyse(&path, overlay.clone());
+    let first = snap
+        .outcome
+        .findings
+        .iter()
+        .find(|f| f.fix.is_some())
+        .map(|f| (f.primary.span.start as usize, f.primary.span.end as usize));
+    let mut one_action = Vec::with_capacity(repeats);
+    if let Some((a, b)) = first {
+        for _ in 0..repeats + 2 {
+            let mut s = snapshot::analyse(&path, overlay.clone());
+            let t = Instant::now();
+            s.verify_range(a, b);
+            one_action.push(t.elapsed());
+        }
+        one_action.drain(..2);
+    }
+    // The diagnostics must not depend on when fixes are verified: once every fix of the
+    // document is verified, each finding's help equals `check`'s.
+    let checked = campaign::run(std::slice::from_ref(&path), &Options::default()).unwrap();
+    let proposed_help: Vec<Option<String>> = snap
+        .outcome
+        .findings
+        .iter()
+        .map(|f| f.help.clone())
+        .collect();
+    snap.verify_range(0, usize::MAX);
+    let differ_before = proposed_help
+        .iter()
+        .zip(&checked.findings)
+        .filter(|(h, f)| **h != f.help)
+        .count();
+    let differ_after = snap
+        .outcome
+        .findings
+        .iter()
+        .zip(&checked.findings)
+        .filter(|(a, f)| a.help != f.help || a.message != f.message || a.rule != f.rule)
+        .count();
+    let with_fix = checked.findings.iter().filter(|f| f.fix.is_some()).count();
 
     let mut child = Command::new(env!("CARGO_BIN_EXE_foldcheck"))
         .arg("lsp")
@@ -146,15 +202,25 @@ fn main() {
 
     let ms = |d: Duration| d.as_secs_f64() * 1e3;
     println!(
-        "rig: {rig} ({channels} channels, {findings} findings, {diagnostics} diagnostics), {repeats} runs each"
+        "rig: {rig} ({channels} channels, {findings} findings, {diagnostics} diagnostics, \
+         {with_fix} verified fixes), {repeats} runs each"
+    );
+    println!(
+        "help lines that differ from check's: {differ_before} before verification (proposals \
+         that fail it), {differ_after} after verifying the document's fixes (must be 0)"
     );
     println!("| step | median | fastest | ratio to check-core |");
     println!("|---|---|---|---|");
-    for (name, (med, min)) in [
+    let mut steps = vec![
         ("check-core", check),
         ("analyse", analyse),
+        ("analyse + verify all", analyse_verify),
         ("round-trip", round_trip),
-    ] {
+    ];
+    if !one_action.is_empty() {
+        steps.push(("verify one code action's range", median(one_action)));
+    }
+    for (name, (med, min)) in steps {
         println!(
             "| {name} | {:.2} ms | {:.2} ms | {:.2} |",
             ms(med),

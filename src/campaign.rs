@@ -53,6 +53,11 @@ pub struct Options {
     /// analysed, so they raise no channel findings. Proposed fixes are then not
     /// verified and are dropped (their findings keep the help without a fix).
     pub scope: Option<String>,
+    /// Verify proposed fixes before the outcome is returned (the default). The editor
+    /// server turns this off and verifies the fixes of a range only when a code action
+    /// asks for them ([`crate::fix::verify_only`]): until then a finding's `fix` and
+    /// `help` are the rule's unverified proposal.
+    pub verify_fixes: bool,
 }
 
 /// Texts held in memory that stand in for the files at these paths: an editor's open
@@ -71,6 +76,7 @@ impl Default for Options {
             overlay: None,
             identity_base: None,
             scope: None,
+            verify_fixes: true,
         }
     }
 }
@@ -215,7 +221,8 @@ pub(crate) struct Job {
 }
 
 /// Lint the given paths (files and directories). Proposed fixes are verified (see
-/// [`crate::fix`]): only those that work stay on their findings.
+/// [`crate::fix`]): only those that work stay on their findings (unless
+/// [`Options::verify_fixes`] is off).
 pub fn run(paths: &[PathBuf], opts: &Options) -> Result<Outcome, Fatal> {
     let (jobs, notes) = discover(paths, opts)?;
     let roots = roots_without_settings(&jobs);
@@ -226,7 +233,7 @@ pub fn run(paths: &[PathBuf], opts: &Options) -> Result<Outcome, Fatal> {
         for f in &mut out.findings {
             f.drop_fix();
         }
-    } else {
+    } else if opts.verify_fixes {
         crate::fix::verify(&mut out, opts.max_file_bytes);
     }
     Ok(out)

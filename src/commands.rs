@@ -429,46 +429,7 @@ fn color_for(c: ColorChoice) -> human::Color {
     }
 }
 
-/// A fatal error for stderr. A settings error with a place is shown like a finding
-/// (the same excerpt, label and help layout), under the rule-like code `settings`.
+/// A fatal error for stderr (see [`foldcheck::report::fatal`]).
 fn fatal(e: &Fatal, color: human::Color) -> String {
-    match e {
-        Fatal::Settings(s) => match settings_finding(s) {
-            Some((sources, f)) => format!(
-                "foldcheck: invalid settings file\n{}",
-                human::render_finding(&sources, &f, color).trim_end()
-            ),
-            None => format!("foldcheck: {e}"),
-        },
-        other => format!("foldcheck: {other}"),
-    }
-}
-
-/// A settings error as a finding in its own one-file [`Sources`], when it has a place.
-fn settings_finding(
-    s: &foldcheck::settings::SettingsError,
-) -> Option<(foldcheck::source::Sources, foldcheck::finding::Finding)> {
-    use foldcheck::finding::{Finding, Label};
-    let span = s.span.as_ref()?;
-    let mut sources = foldcheck::source::Sources::new();
-    let cwd = campaign::absolute(std::path::Path::new("."));
-    let shown = if s.path.is_absolute() {
-        campaign::relative_path(&cwd, &s.path)
-    } else {
-        s.path.to_string_lossy().replace('\\', "/")
-    };
-    let file = sources.add(&s.path, shown, s.text.clone());
-    let len = u32::try_from(s.text.len()).ok()?;
-    let start = u32::try_from(span.start).ok()?.min(len);
-    let end = u32::try_from(span.end).ok()?.clamp(start, len);
-    let f = Finding::new(
-        "settings",
-        Severity::Error,
-        Label::new(foldcheck::source::Span { file, start, end }, "here"),
-        s.message.clone(),
-    )
-    .with_help(
-        "see docs/format.md (settings) or `foldcheck schema --settings` for what the file may hold",
-    );
-    Some((sources, f))
+    format!("foldcheck: {}", foldcheck::report::fatal::render(e, color))
 }

@@ -40,6 +40,16 @@ pub fn round_to(x: f64, decimals: i32) -> f64 {
     (x * p).round() / p
 }
 
+/// Round to `digits` significant digits, for a derived figure in a message that should
+/// not look more exact than a person needs (`523.4 GB`, not `523.377 GB`).
+pub fn round_sig(x: f64, digits: i32) -> f64 {
+    if x == 0.0 || !x.is_finite() {
+        return x;
+    }
+    let unit = 10f64.powi(x.abs().log10().floor() as i32 - digits + 1);
+    (x / unit).round() * unit
+}
+
 /// Parse a decimal number (optional sign, fraction and exponent) exactly.
 pub fn parse_decimal(s: &str) -> Option<Exact> {
     let s = s.trim();
@@ -284,6 +294,15 @@ pub fn closest_unambiguous<'a>(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn significant_digits_round_half_away() {
+        let near = |a: f64, b: f64| (a - b).abs() <= 1e-12 * b.abs();
+        assert!(near(round_sig(523_377_000_000.0, 4), 523.4e9));
+        assert!(near(round_sig(0.000_566_406_25, 4), 566.4e-6));
+        assert!(near(round_sig(-12.345, 3), -12.3));
+        assert_eq!(round_sig(0.0, 4), 0.0);
+    }
 
     #[test]
     fn no_negative_zero_is_printed() {

@@ -330,3 +330,42 @@ fn a_file_named_on_the_command_line_is_linted_even_when_settings_exclude_it() {
     let (report, _) = check_json(dir.path(), &["."]);
     assert_eq!(report["files"], 1, "only rigs/bay-1.rig.yaml when walking");
 }
+
+#[test]
+fn inspect_and_diff_render_a_settings_error_like_a_finding_too() {
+    let dir = repo(true);
+    write(dir.path(), "foldcheck.toml", "[rules]\nnyquits = \"off\"\n");
+    let finding = "settings
+
+  × unknown rule `nyquits`; did you mean `nyquist`?
+   ╭─[foldcheck.toml:2:11]
+ 1 │ [rules]
+ 2 │ nyquits = \"off\"
+   ·           ──┬──
+   ·             ╰── here
+   ╰────
+  help: see docs/format.md (settings) or `foldcheck schema --settings` for what the file may hold
+";
+    for (args, prefix) in [
+        (
+            vec!["inspect", "rigs/bay-1.rig.yaml"],
+            "foldcheck: invalid settings file\n",
+        ),
+        (
+            vec!["inspect", "rigs/bay-1.rig.yaml", "bay-1-mic"],
+            "foldcheck: invalid settings file\n",
+        ),
+        (
+            vec!["diff", "rigs/bay-1.rig.yaml", "rigs/bay-1.rig.yaml"],
+            "foldcheck: OLD: invalid settings file\n",
+        ),
+    ] {
+        let out = run_in(dir.path(), &args);
+        assert_eq!(out.status.code(), Some(2), "{args:?}");
+        assert_eq!(
+            String::from_utf8_lossy(&out.stderr),
+            format!("{prefix}{finding}"),
+            "{args:?}"
+        );
+    }
+}

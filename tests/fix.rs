@@ -526,3 +526,107 @@ fn a_fix_that_would_add_an_error_is_not_proposed_and_the_help_does_not_propose_i
     assert_eq!(findings[1]["help"], "write `25.6 kHz`");
     assert_eq!(findings[1]["fix"]["edits"][0]["replacement"], "kHz");
 }
+
+/// Two microphones on one divided clock: 24.576 MHz / 512 = 48 kHz, below 2.5 times
+/// either band (the sampling margin, common practice). Each channel's fix is another
+/// divider on `frame`, and the two dividers differ: the same three bytes, two texts.
+const SHARED_DIVIDER: &str = "\
+format: 1
+rig: bay-4
+clocks:
+  - { name: osc, frequency: 24.576 MHz }
+  - { name: frame, source: osc, divide: 512 }
+channels:
+  - name: mic-north
+    clock: frame
+    band: 20 kHz
+    filters: [{ response: digital, passband-edge: 0.45, stopband-edge: 0.55, attenuation: 100 dB }]
+  - name: mic-south
+    clock: frame
+    band: 21 kHz
+    filters: [{ response: digital, passband-edge: 0.45, stopband-edge: 0.55, attenuation: 100 dB }]
+";
+
+#[test]
+fn two_fixes_that_edit_the_same_value_differently_are_both_reported_and_neither_applied() {
+    let tmp = tempfile::tempdir().unwrap();
+    fs::write(tmp.path().join("foldcheck.toml"), "").unwrap();
+    let rig = tmp.path().join("bay.rig.yaml");
+    fs::write(&rig, SHARED_DIVIDER).unwrap();
+    let (before, check_status) = common::check_json(tmp.path(), &["bay.rig.yaml"]);
+    // `check` proposes both fixes, each verified on its own.
+    let proposed: Vec<(String, String)> = before["findings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter_map(|f| {
+            let e = &f["fix"]["edits"][0];
+            Some((
+                f["channel"].as_str()?.to_string(),
+                e["replacement"].as_str()?.to_string(),
+            ))
+        })
+        .collect();
+    assert_eq!(proposed.len(), 2, "{before:#}");
+    let span = SHARED_DIVIDER.find("512").unwrap();
+    for f in before["findings"].as_array().unwrap() {
+        let e = &f["fix"]["edits"][0];
+        assert_eq!(
+            (e["start"].as_u64(), e["end"].as_u64()),
+            (Some(span as u64), Some(span as u64 + 3))
+        );
+    }
+    // Each divider gives its own channel 2.5 times its band: 24.576 MHz / d >= 2.5 band.
+    for (channel, d) in &proposed {
+        let band = if channel == "mic-north" { 20e3 } else { 21e3 };
+        let d: f64 = d.parse().unwrap();
+        assert!(24.576e6 / d >= 2.5 * band, "{channel}: {d}");
+    }
+    assert_ne!(proposed[0].1, proposed[1].1, "the two fixes differ");
+
+    // `fix --format json`: no fix applied, the pair reported as one conflict, nothing
+    // written, and the exit status that `check` gives the unchanged file.
+    let out = common::run_in(tmp.path(), &["fix", "--format", "json", "bay.rig.yaml"]);
+    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(v["fixes"], serde_json::json!([]), "{v:#}");
+    let conflicts = v["conflicts"].as_array().unwrap();
+    assert_eq!(conflicts.len(), 1, "{v:#}");
+    let mut pair: Vec<(String, String)> = conflicts[0]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|c| {
+            (
+                c["channel"].as_str().unwrap().to_string(),
+                c["edits"][0]["replacement"].as_str().unwrap().to_string(),
+            )
+        })
+        .collect();
+    pair.sort();
+    let mut want = proposed.clone();
+    want.sort();
+    assert_eq!(pair, want);
+    assert_eq!(fs::read_to_string(&rig).unwrap(), SHARED_DIVIDER);
+    assert_eq!(out.status.code(), Some(check_status));
+
+    // The human form names both, and a second run is the same (nothing was written).
+    for _ in 0..2 {
+        let out = common::run_in(tmp.path(), &["fix", "--color", "never", "bay.rig.yaml"]);
+        let text = String::from_utf8(out.stdout).unwrap();
+        assert!(
+            text.contains("not fixed: these fixes edit the same text differently:"),
+            "{text}"
+        );
+        for (channel, d) in &proposed {
+            let line = if channel == "mic-north" { 8 } else { 12 };
+            assert!(
+                text.contains(&format!(
+                    "bay.rig.yaml:{line}:12 sampling-margin: divide `osc` by {d} instead of 512"
+                )),
+                "{text}"
+            );
+        }
+        assert!(text.contains("0 fixes applied in 0 files"), "{text}");
+        assert_eq!(fs::read_to_string(&rig).unwrap(), SHARED_DIVIDER);
+    }
+}

@@ -579,3 +579,134 @@ fn fingerprints_match_check() {
     }
     assert!(c.shutdown().success());
 }
+
+#[test]
+fn a_frame_that_is_not_json_gets_a_parse_error_and_the_session_goes_on() {
+    // JSON-RPC 2.0 (section 5.1): a body that is not JSON is answered with error -32700
+    // "Parse error" and `id: null`; a JSON value that is no request or notification
+    // with -32600 "Invalid Request". The frame's length is known from its header, so
+    // the next frame is read as usual.
+    let (dir, rig, _) = setup();
+    let mut c = LspClient::start(dir.path());
+    initialize(&mut c, json!({}));
+    for body in [
+        &b"{\"jsonrpc\": \"2.0\", \"id\": 7, \"method\": "[..],
+        &b"not json at all"[..],
+        &b"\xff\xfe{}"[..],
+    ] {
+        c.send_raw(body);
+        let r = c.wait(|v| v.get("error").is_some());
+        assert_eq!(r["jsonrpc"], "2.0", "{r}");
+        assert_eq!(r["id"], Value::Null, "{r}");
+        assert_eq!(r["error"]["code"], -32700, "{r}");
+    }
+    c.send_raw(b"[1, 2]");
+    let r = c.wait(|v| v.get("error").is_some());
+    assert_eq!(
+        (r["id"].clone(), r["error"]["code"].clone()),
+        (Value::Null, json!(-32600)),
+        "{r}"
+    );
+    c.send_raw(br#"{"jsonrpc": "2.0", "id": 9, "params": {}}"#);
+    let r = c.wait(|v| v.get("error").is_some());
+    assert_eq!(
+        (r["id"].clone(), r["error"]["code"].clone()),
+        (json!(9), json!(-32600)),
+        "{r}"
+    );
+    // The session goes on: a document opened afterwards is analysed and answered.
+    open(&mut c, &rig, RIG);
+    assert_eq!(strip_fp(c.diagnostics(&rig)), json!([]));
+    let h = c.request(
+        "textDocument/hover",
+        json!({ "textDocument": { "uri": rig }, "position": pos(11, 12) }),
+    );
+    assert!(
+        h["result"]["contents"]["value"]
+            .as_str()
+            .is_some_and(|s| s.contains("mic-left")),
+        "{h}"
+    );
+    assert!(c.shutdown().success());
+}
+
+#[test]
+fn fixes_are_verified_when_a_code_action_asks_and_a_failing_one_is_withdrawn() {
+    // The analysis of a change verifies no fix: the diagnostics first carry each rule's
+    // proposal. Spelt right, clock `base` runs at 3 kHz, below twice the 2 kHz band (a
+    // `nyquist` error the unit typo hides), so its unit fix fails verification; the
+    // 25.6 kHz clock's passes. Asking for code actions verifies the range asked for:
+    // the failing proposal is withdrawn from the help (the diagnostics are sent again,
+    // now equal to `check`'s) and offered as no quick fix.
+    let dir = tempfile::tempdir().unwrap();
+    let text = "format: 1\nrig: slow\nclocks:\n  - { name: base, frequency: 3 KHz }\n  - { name: fast, frequency: 25.6 KHz }\nchannels:\n  - { name: c1, clock: base, band: 2 kHz }\n  - { name: c2, clock: fast, band: 2 kHz, filters: [{ response: butterworth, order: 4, cutoff: 4 kHz }] }\n";
+    std::fs::write(dir.path().join("slow.rig.yaml"), text).unwrap();
+    let uri = file_uri(&dir.path().join("slow.rig.yaml"));
+    let mut c = LspClient::start(dir.path());
+    initialize(&mut c, json!({}));
+    open(&mut c, &uri, text);
+    let first = c.diagnostics(&uri);
+    let messages: Vec<&str> = first
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|d| d["message"].as_str().unwrap())
+        .collect();
+    assert_eq!(
+        messages,
+        [
+            "unknown unit `KHz` in `3 KHz`; units are case-sensitive\nhelp: write `3 kHz`",
+            "unknown unit `KHz` in `25.6 KHz`; units are case-sensitive\nhelp: write `25.6 kHz`",
+        ]
+    );
+    // A code action on line 5 (0-based 4): only that fix is verified, and it passes.
+    let r = c.request(
+        "textDocument/codeAction",
+        json!({ "textDocument": { "uri": uri }, "range": range(4, 36, 4, 36),
+                "context": { "diagnostics": [] } }),
+    );
+    let titles: Vec<&str> = r["result"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|a| a["title"].as_str().unwrap())
+        .collect();
+    assert_eq!(titles, ["write the unit `KHz` as `kHz`"]);
+    assert!(
+        c.quiet_for(300),
+        "nothing changed: no diagnostics are sent again"
+    );
+    // On line 4 (0-based 3): the fix fails, no quick fix, and the help falls back.
+    let r = c.request(
+        "textDocument/codeAction",
+        json!({ "textDocument": { "uri": uri }, "range": range(3, 32, 3, 32),
+                "context": { "diagnostics": [] } }),
+    );
+    assert_eq!(r["result"], json!([]), "{r}");
+    let again = c.diagnostics(&uri);
+    let (check, _) = common::check_json(dir.path(), &["slow.rig.yaml"]);
+    let from_check: Vec<String> = check["findings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|f| {
+            format!(
+                "{}\nhelp: {}",
+                f["message"].as_str().unwrap(),
+                f["help"].as_str().unwrap()
+            )
+        })
+        .collect();
+    let now: Vec<&str> = again
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|d| d["message"].as_str().unwrap())
+        .collect();
+    assert_eq!(now, from_check);
+    assert_eq!(
+        now[0],
+        "unknown unit `KHz` in `3 KHz`; units are case-sensitive\nhelp: units are case-sensitive: use one of Hz kHz MHz GHz"
+    );
+    assert!(c.shutdown().success());
+}

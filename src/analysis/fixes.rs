@@ -279,7 +279,7 @@ fn find_plan(
         if d.value > 2
             && let Some(nd) = largest_passing(2, d.value - 1, ok)
         {
-            return Some(Plan::Divider(nd));
+            return Some(Plan::Divider(rounder(&base, nd, &ok)));
         }
     }
 
@@ -312,7 +312,13 @@ fn find_plan(
         if f > 2
             && let Some(nf) = largest_passing(2, u64::from(f) - 1, ok)
         {
-            return Some(Plan::Factor(k, nf as u32));
+            let mut input = fs0;
+            for st in &ch.def.decimate[..k - 1] {
+                input = input
+                    .checked_div(&Exact::from_integer(i128::from(st.factor.value)))
+                    .unwrap_or(input);
+            }
+            return Some(Plan::Factor(k, rounder(&input, nf, &ok) as u32));
         }
     }
 
@@ -458,6 +464,95 @@ fn find_plan(
     None
 }
 
+/// How many significant digits the decimal form of `r` has, when it ends within nine
+/// (`51.2 kHz` has 3); `None` for a rate like 83.3085… kHz that has no short form.
+fn significant_digits(r: &Exact) -> Option<u32> {
+    if *r.numer() <= 0 {
+        return None;
+    }
+    // Scale to an integer by powers of ten (a terminating decimal needs at most a few).
+    let mut x = *r;
+    for _ in 0..12 {
+        if x.is_integer() {
+            break;
+        }
+        x = x.checked_mul(&Exact::from_integer(10))?;
+    }
+    if !x.is_integer() {
+        return None;
+    }
+    let mut n = x.to_integer();
+    while n % 10 == 0 {
+        n /= 10;
+    }
+    let digits = n.to_string().len() as u32;
+    (digits <= 9).then_some(digits)
+}
+
+/// A rate for a fix's text: exact when its decimal form is short (`51.2 kHz`,
+/// `50.053 kHz`), else "about" and four significant digits (`about 83.31 kHz` for
+/// 24.576 MHz / 295), so that no figure looks more exact than a person needs.
+fn rate_words(r: &Exact) -> String {
+    let x = to_f64(r);
+    if significant_digits(r).is_some_and(|d| d <= 6) || x.is_nan() || x <= 0.0 {
+        return format_hz(x);
+    }
+    let unit = 10f64.powi(x.log10().floor() as i32 - 3);
+    format!("about {}", format_hz((x / unit).round() * unit))
+}
+
+/// A divisor that gives a round rate, when one is close: among the divisors from about
+/// 10 % below `best` (the largest that passes) up to `best`, the one whose rate `base /
+/// n` has the fewest significant digits (at most four, and fewer than `best`'s rate),
+/// the closest to `best` among equals, that still passes `ok`; else `best`. A person
+/// sets 51.2 kHz (divider 480) rather than 50.053 kHz (divider 491).
+fn rounder(base: &Exact, best: u64, ok: &dyn Fn(u64) -> bool) -> u64 {
+    let Some(at_best) = base.checked_div(&Exact::from_integer(i128::from(best))) else {
+        return best;
+    };
+    let now = significant_digits(&at_best).unwrap_or(u32::MAX);
+    let lo = best.saturating_sub((best / 10).max(2)).max(2);
+    if lo >= best || now <= 1 {
+        return best;
+    }
+    let (fmin, fmax) = (to_f64(&at_best), to_f64(base) / lo as f64);
+    if !(fmin > 0.0 && fmax.is_finite()) {
+        return best;
+    }
+    for k in 1..now.min(5) {
+        let mut found: Vec<u64> = Vec::new();
+        let (e0, e1) = (fmin.log10().floor() as i32, fmax.log10().floor() as i32);
+        for e in e0..=e1 {
+            // Round numbers m · 10^p with k significant digits between the two rates.
+            let p = e - k as i32 + 1;
+            let step = 10f64.powi(p);
+            let (m0, m1) = ((fmin / step).ceil() as i64, (fmax / step).floor() as i64);
+            for m in m0.max(1)..=m1.min(m0.max(1) + 2000) {
+                let scale = Exact::from_integer(10).pow(p);
+                let Some(r) = Exact::from_integer(i128::from(m)).checked_mul(&scale) else {
+                    continue;
+                };
+                let Some(n) = base.checked_div(&r) else {
+                    continue;
+                };
+                if n.is_integer()
+                    && let Ok(n) = u64::try_from(n.to_integer())
+                    && (lo..=best).contains(&n)
+                    && significant_digits(&r) == Some(k)
+                {
+                    found.push(n);
+                }
+            }
+        }
+        found.sort_unstable_by(|a, b| b.cmp(a));
+        found.dedup();
+        if let Some(n) = found.into_iter().find(|&n| ok(n)) {
+            return n;
+        }
+    }
+    best
+}
+
 /// The rate changes whose verdicts fail, in order.
 fn failing_stages(a: &RateAnalysis) -> Vec<usize> {
     let mut v: Vec<usize> = Vec::new();
@@ -530,15 +625,15 @@ fn materialise(rig: &Rig, ch: &RChannel, plan: &Plan) -> Option<Candidate> {
                 source.value,
                 d.value,
                 c.def.name.value,
-                format_hz(to_f64(&rate))
+                rate_words(&rate)
             );
             let help = match rig.fanout[clock].saturating_sub(1) {
                 0 => format!("{desc} (no other channel samples on it)"),
                 1 => format!(
-                    "{desc} (also changes 1 other channel of this rig, which keeps passing)"
+                    "{desc} (1 other channel of this rig samples on it too; nothing it passes fails)"
                 ),
                 n => format!(
-                    "{desc} (also changes {n} other channels of this rig, which keep passing)"
+                    "{desc} ({n} other channels of this rig sample on it too; nothing they pass fails)"
                 ),
             };
             (desc, help, vec![edit(d.span, nd.to_string())])
@@ -567,7 +662,7 @@ fn materialise(rig: &Rig, ch: &RChannel, plan: &Plan) -> Option<Candidate> {
             let desc = format!(
                 "decimate by {nf} instead of {} at stage {k} to leave {}",
                 st.factor.value,
-                format_hz(to_f64(&rate))
+                rate_words(&rate)
             );
             (
                 desc.clone(),
@@ -578,7 +673,7 @@ fn materialise(rig: &Rig, ch: &RChannel, plan: &Plan) -> Option<Candidate> {
         Plan::StageAttenuation(k, db) => {
             let flt = ch.def.decimate[k - 1].filter.as_ref()?;
             let desc = format!(
-                "give the digital filter of decimation stage {k} {} of stopband attenuation",
+                "give the digital filter of decimation stage {k} a stopband attenuation of {}",
                 format_db(f64::from(db)).replace(".00", "")
             );
             (

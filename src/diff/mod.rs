@@ -368,7 +368,10 @@ impl Side {
             ..Options::default()
         };
         let out = campaign::run(paths, &opts).map_err(|e| match e {
-            Fatal::Settings(_) => format!("{what}: {e}"),
+            Fatal::Settings(_) => format!(
+                "{what}: {}",
+                crate::report::fatal::render(&e, crate::report::human::Color::Never)
+            ),
             other => other.to_string(),
         })?;
         let canonical = out

@@ -163,6 +163,26 @@ struct Verdict {
 /// Verify every proposed fix of `out` (see the module documentation): fixes that work
 /// stay, the others are dropped with their help.
 pub fn verify(out: &mut Outcome, max_file_bytes: u64) {
+    verify_where(out, max_file_bytes, |_| true);
+}
+
+/// Verify the proposed fixes of the findings `which` (indexes into `out.findings`) and
+/// of the findings that share their edits, as [`verify`] does for all; the other
+/// findings are left as they are. Returns the findings whose fix was verified (kept or
+/// dropped). The editor server calls this when a code action asks for a range, so that
+/// analysing a change costs no verification (see [`campaign::Options::verify_fixes`]).
+pub fn verify_only(out: &mut Outcome, max_file_bytes: u64, which: &HashSet<usize>) -> Vec<usize> {
+    verify_where(out, max_file_bytes, |members| {
+        members.iter().any(|i| which.contains(i))
+    })
+}
+
+/// [`verify`] for the edit sets whose findings `chosen` selects; the findings verified.
+fn verify_where(
+    out: &mut Outcome,
+    max_file_bytes: u64,
+    chosen: impl Fn(&[usize]) -> bool,
+) -> Vec<usize> {
     let mut groups: BTreeMap<Vec<PathEdit>, Vec<usize>> = BTreeMap::new();
     let mut unusable = Vec::new();
     for (i, f) in out.findings.iter().enumerate() {
@@ -173,11 +193,17 @@ pub fn verify(out: &mut Outcome, max_file_bytes: u64) {
             }
         }
     }
+    let mut done: Vec<usize> = Vec::new();
     for i in unusable {
-        out.findings[i].drop_fix();
+        if chosen(&[i]) {
+            out.findings[i].drop_fix();
+            done.push(i);
+        }
     }
+    groups.retain(|_, members| chosen(members));
+    done.extend(groups.values().flatten().copied());
     if groups.is_empty() {
-        return;
+        return done;
     }
     let ctx = VerifyCtx::new(out, max_file_bytes);
     let groups: Vec<(Vec<PathEdit>, Vec<usize>)> = groups.into_iter().collect();
@@ -211,6 +237,7 @@ pub fn verify(out: &mut Outcome, max_file_bytes: u64) {
             }
         }
     }
+    done
 }
 
 /// Edit sets that can be tried together: the sets that edit only one file (a rig's own

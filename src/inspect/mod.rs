@@ -51,7 +51,8 @@ pub fn run(
         scope: channel.map(str::to_string),
         ..Default::default()
     };
-    let out = campaign::run(&[file.to_path_buf()], &opts).map_err(|e| e.to_string())?;
+    let out = campaign::run(&[file.to_path_buf()], &opts)
+        .map_err(|e| crate::report::fatal::render(&e, crate::report::human::Color::Never))?;
     let Some(channel) = channel else {
         if plot.is_some() {
             return Err("--plot draws one channel: name it after the file".to_string());

@@ -15,6 +15,7 @@ pub mod complete;
 pub mod hover;
 pub mod position;
 pub mod snapshot;
+pub mod transport;
 
 use crate::campaign::{self, Overlay};
 use crate::finding::{Finding, Severity};
@@ -42,7 +43,9 @@ pub const REASON_PLACEHOLDER: &str = "TODO: say why this is acceptable";
 /// connection) without (the protocol's exit status is then 1); `Err` is a protocol
 /// failure.
 pub fn run_stdio() -> Result<bool, String> {
-    let (connection, io) = Connection::stdio();
+    // Our own stdio transport: a frame that is not JSON gets a parse error reply and the
+    // session goes on (lsp-server's own transport stops reading at such a frame).
+    let (connection, io) = transport::stdio();
     let result = serve(&connection);
     drop(connection);
     let joined = io.join().map_err(|e| e.to_string());
@@ -555,8 +558,21 @@ impl Server<'_> {
         serde_json::to_value(lt::CompletionResponse::Array(items)).unwrap_or(Value::Null)
     }
 
-    fn code_actions(&self, p: &lt::CodeActionParams) -> Value {
+    fn code_actions(&mut self, p: &lt::CodeActionParams) -> Value {
         let uri = &p.text_document.uri;
+        let (Some(doc), Some(snap)) = (self.docs.get(uri), self.snaps.get_mut(uri)) else {
+            return json!([]);
+        };
+        let map = LineMap::new(&doc.text);
+        let want_a = map.offset(&doc.text, p.range.start, self.enc);
+        let want_b = map.offset(&doc.text, p.range.end, self.enc);
+        // Fixes are verified here, for this range only (not on every change): a fix
+        // that fails takes its help with it, so the diagnostics are sent again.
+        if snap.verify_range(want_a, want_b) {
+            let version = doc.version;
+            let diagnostics = self.diagnostics(&self.snaps[uri], &self.docs[uri]);
+            self.publish_raw(uri, diagnostics, Some(version));
+        }
         let (Some(doc), Some(snap)) = (self.docs.get(uri), self.snaps.get(uri)) else {
             return json!([]);
         };
@@ -564,9 +580,6 @@ impl Server<'_> {
             return json!([]);
         };
         let sources = &snap.outcome.sources;
-        let map = LineMap::new(&doc.text);
-        let want_a = map.offset(&doc.text, p.range.start, self.enc);
-        let want_b = map.offset(&doc.text, p.range.end, self.enc);
         let mut actions = Vec::new();
         let mut seen = HashSet::new();
         for f in snap.outcome.findings.iter().filter(|f| {

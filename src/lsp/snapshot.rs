@@ -8,6 +8,7 @@
 use crate::campaign::{self, Options, Outcome, Overlay};
 use crate::resolve::Rig;
 use crate::source::{FileId, Span};
+use std::collections::HashSet;
 use std::path::{Path, PathBuf};
 use std::sync::Arc;
 
@@ -85,6 +86,11 @@ pub struct Snapshot {
     pub occurrences: Vec<Occurrence>,
     /// Spans a hover can describe, with what they are.
     pub targets: Vec<(Span, Target)>,
+    /// Findings (indexes into `outcome.findings`) whose proposed fix has been verified.
+    /// The analysis of a change verifies none: a code action verifies the fixes of its
+    /// range (see [`Snapshot::verify_range`]); until then a finding's `fix` and `help`
+    /// are the rule's proposal.
+    pub verified: HashSet<usize>,
 }
 
 /// The key files are compared by: the real path when the file exists, else the absolute
@@ -94,11 +100,13 @@ pub fn file_key(p: &Path) -> PathBuf {
 }
 
 /// Analyse the document at `path` (absolute) with the texts of `overlay` standing in
-/// for their files: the same stages as `foldcheck check` on that path.
+/// for their files: the same stages as `foldcheck check` on that path, except that
+/// proposed fixes are not verified yet (see [`Snapshot::verify_range`]).
 pub fn analyse(path: &Path, overlay: Arc<Overlay>) -> Snapshot {
     let opts = Options {
         keep_rigs: true,
         overlay: Some(overlay),
+        verify_fixes: false,
         ..Options::default()
     };
     let (outcome, fatal) = match campaign::run(&[path.to_path_buf()], &opts) {
@@ -118,12 +126,53 @@ pub fn analyse(path: &Path, overlay: Arc<Overlay>) -> Snapshot {
         file,
         occurrences: Vec::new(),
         targets: Vec::new(),
+        verified: HashSet::new(),
     };
     snap.index();
     snap
 }
 
 impl Snapshot {
+    /// Verify the proposed fixes of this document's findings whose primary span touches
+    /// the bytes `start..=end` (and of the findings that share their edits), as `check`
+    /// verifies every fix. `true` when a fix was dropped, so that a finding's help
+    /// changed (the diagnostics are then published again).
+    pub fn verify_range(&mut self, start: usize, end: usize) -> bool {
+        let Some(file) = self.file else {
+            return false;
+        };
+        let which: HashSet<usize> = self
+            .outcome
+            .findings
+            .iter()
+            .enumerate()
+            .filter(|(i, f)| {
+                f.fix.is_some()
+                    && !self.verified.contains(i)
+                    && f.primary.span.file == file
+                    && (f.primary.span.start as usize) <= end
+                    && start <= f.primary.span.end as usize
+            })
+            .map(|(i, _)| i)
+            .collect();
+        if which.is_empty() {
+            return false;
+        }
+        let had: HashSet<usize> = self
+            .outcome
+            .findings
+            .iter()
+            .enumerate()
+            .filter(|(_, f)| f.fix.is_some())
+            .map(|(i, _)| i)
+            .collect();
+        let done =
+            crate::fix::verify_only(&mut self.outcome, campaign::DEFAULT_MAX_FILE_BYTES, &which);
+        self.verified.extend(done.iter().copied());
+        done.iter()
+            .any(|&i| had.contains(&i) && self.outcome.findings[i].fix.is_none())
+    }
+
     /// The rigs navigation reads: the document's own rig, or (for a catalog) every rig
     /// of the run that includes it.
     fn rigs(&self) -> Vec<(usize, &Rig)> {

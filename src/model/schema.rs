@@ -150,8 +150,10 @@ pub fn check(root: &Node, text: &str) -> Vec<Finding> {
                         match same[..] {
                             [right] => match Edit::replace_value(text, node.span, written, right) {
                                 Some(edit) => {
-                                    let generic =
-                                        Some(format!("the choices are {}", join_or(&options)));
+                                    let generic = Some(format!(
+                                        "the choices are {}",
+                                        join_with(&options, "and")
+                                    ));
                                     let help = f.help.clone().unwrap_or_default();
                                     f.with_fix_and_help(
                                         Fix {
@@ -604,7 +606,10 @@ fn enum_finding(node: &Node, at: &Place, options: &[&str]) -> Finding {
             format!("{written} is not a known `{key}`"),
             "unknown".to_string(),
             match best {
-                Some(b) => format!("write `{b}` (the choices are {list})"),
+                Some(b) => format!(
+                    "write `{b}` (the choices are {})",
+                    join_with(options, "and")
+                ),
                 None => format!("write one of {list}"),
             },
         )
@@ -614,13 +619,18 @@ fn enum_finding(node: &Node, at: &Place, options: &[&str]) -> Finding {
         .with_help(help)
 }
 
-/// "`a`, `b` or `c`".
+/// "`a`, `b` or `c`": one of them.
 fn join_or(options: &[&str]) -> String {
+    join_with(options, "or")
+}
+
+/// "`a`, `b` and `c`" (all of them, as in "the choices are …") or with "or".
+fn join_with(options: &[&str], word: &str) -> String {
     let quoted: Vec<String> = options.iter().map(|o| format!("`{o}`")).collect();
     match quoted.split_last() {
         None => String::new(),
         Some((last, [])) => last.clone(),
-        Some((last, rest)) => format!("{} or {last}", rest.join(", ")),
+        Some((last, rest)) => format!("{} {word} {last}", rest.join(", ")),
     }
 }
 

@@ -1,5 +1,6 @@
 //! Renderers: they render findings, never work them out.
 
+pub mod fatal;
 pub mod human;
 pub mod json;
 pub mod sarif;

@@ -204,7 +204,7 @@ fn check_storage(a: &RigAnalysis, out: &mut Vec<Finding>) {
                     "recording {} for {} needs {}, more than the logger's {}",
                     format_bytes(rate, true),
                     crate::words::format_duration(duration.value),
-                    format_bytes(bytes, false),
+                    format_bytes(crate::words::round_sig(bytes, 4), false),
                     format_bytes(storage.value, false)
                 ),
             )

@@ -321,7 +321,7 @@ fn phase_finding(
         };
         format!(
             "; `{late}` lags `{early}` by {} at DC",
-            format_seconds(cmp.delay_difference_s.abs())
+            format_seconds(crate::words::round_sig(cmp.delay_difference_s.abs(), 4))
         )
     } else {
         String::new()
@@ -335,7 +335,7 @@ fn phase_finding(
         };
         format!(
             "the digital stages of `{slow}` delay it {} more than `{fast}`: give both the same decimation chain, or shift `{fast}` by that delay in the analysis and raise the tolerance",
-            format_seconds(cmp.digital_difference_s.abs())
+            format_seconds(crate::words::round_sig(cmp.digital_difference_s.abs(), 4))
         )
     } else {
         "give the members the same anti-alias filter (type, order and cutoff), or phase-correct them in the analysis and raise the tolerance".to_string()
@@ -347,7 +347,9 @@ fn phase_finding(
             format!(
                 "in group `{}`, `{an}` and `{bn}` differ in phase by {} deg at {at} (within their common {} band), more than the {} deg tolerance{latency}",
                 g.name.value,
-                sig6(diff),
+                // The size of the difference; which member lags is said by the labels
+                // (and the sign is kept in `values`).
+                sig6(diff.abs()),
                 format_hz(common),
                 sig6(tol)
             ),
