@@ -732,12 +732,26 @@ fn the_plot_draws_every_rate_changes_images_and_half_rate_in_its_own_colour() {
                 && close(attr(r, "x"), x(6_553_600.0 - 2e3), 2.0)),
         "a modulator image band"
     );
+    // The worst modulator image has its own marker: a square at 6.5536 MHz − 2 kHz,
+    // labelled with the analog chain's attenuation there, 10·log10(1 + (f/20 kHz)^8) =
+    // 201.23 dB (4th-order Butterworth, closed form).
+    let closed = 10.0 * (1.0 + (6_551_600.0f64 / 20e3).powi(8)).log10();
+    assert!((closed - 201.23).abs() < 0.005, "{closed}");
+    text_x("modulator: f_mod − B = 6.5516 MHz: 201.23 dB (analog chain alone)");
+    let square = rects
+        .iter()
+        .filter(|r| r.attribute("fill") == Some("#3C3C3C"))
+        .filter(|r| close(attr(r, "width"), 12.0, 0.5) && close(attr(r, "height"), 12.0, 0.5))
+        .filter(|r| close(attr(r, "x") + 6.0, x(6_551_600.0), 2.0))
+        .count();
+    assert_eq!(square, 1, "one modulator marker at 6.5516 MHz");
     // One legend entry per rate change and one for the modulator images.
     for legend in [
         "ADC at 102.4 kHz: images k·fs ± B fold into the band; solid line fs/2",
         "stage 1 (÷2) at 51.2 kHz: images k·fs ± B fold into the band; solid line fs/2",
         "stage 2 (÷4) at 12.8 kHz: images k·fs ± B fold into the band; solid line fs/2",
         "modulator images k·f_mod ± B: only the analog chain protects there",
+        "worst modulator image: what the analog chain alone gives there (red: too little)",
     ] {
         text_x(legend);
     }

@@ -686,6 +686,26 @@ pub fn inspect(
     }
 }
 
+/// Which image a folding frequency belongs to: `fs − B = 43 kHz`, `2·fs − B = 91 kHz`,
+/// or a point inside an image band (`98 kHz, inside 2·fs ± B`). `rate` is the rate the
+/// images repeat at, `name` its symbol.
+pub fn image_name(f: f64, rate: f64, band: f64, name: &str) -> String {
+    let n = (f / rate).round().max(1.0);
+    let k = if n == 1.0 {
+        name.to_string()
+    } else {
+        format!("{}·{name}", crate::words::sig6(n))
+    };
+    let tol = 1e-9 * f.abs().max(1.0);
+    if (f - (n * rate - band)).abs() <= tol {
+        format!("{k} − B = {}", format_hz(f))
+    } else if (f - (n * rate + band)).abs() <= tol {
+        format!("{k} + B = {}", format_hz(f))
+    } else {
+        format!("{}, inside {k} ± B", format_hz(f))
+    }
+}
+
 /// What the plot shows, worked out here so that [`plot`] only draws.
 pub fn plot_data(rig: &Rig, ci: usize, ins: &Inspection) -> Option<plot::PlotData> {
     let a = ins.analysis.as_ref()?;
@@ -709,9 +729,10 @@ pub fn plot_data(rig: &Rig, ci: usize, ins: &Inspection) -> Option<plot::PlotDat
             f_max = f * 1.3;
         }
     }
-    // A converter's first modulator image is worth the wider axis.
-    if let Some(fmod) = chain.modulator_rate_hz().filter(|&m| m <= cap) {
-        f_max = f_max.max((fmod + band) * 1.3);
+    // A converter's worst modulator image is worth the wider axis, however far up.
+    let modulator = a.stages[0].modulator.as_ref();
+    if let Some((fmod, m)) = modulator {
+        f_max = f_max.max((fmod + band) * 1.3).max(m.fold_from_hz * 1.3);
     }
 
     // Curves: the chain up to the ADC, and the whole chain when a stage has a filter.
@@ -761,13 +782,18 @@ pub fn plot_data(rig: &Rig, ci: usize, ins: &Inspection) -> Option<plot::PlotDat
             (k, _) => format!("stage {k}: fs − B"),
         };
         if let Some(al) = &s.alias {
+            let prefix = match (s.stage, stages_named) {
+                (0, false) => String::new(),
+                (0, true) => "ADC: ".to_string(),
+                (k, _) => format!("stage {k}: "),
+            };
             markers.push(plot::Marker {
                 kind: plot::MarkerKind::Fold,
                 frequency_hz: al.fold_from_hz,
                 attenuation_db: al.attenuation_db,
                 label: format!(
-                    "{name} = {}: {}",
-                    format_hz(al.fold_from_hz),
+                    "{prefix}{}: {}",
+                    image_name(al.fold_from_hz, s.rate_hz(), band, "fs"),
                     crate::words::format_db(al.attenuation_db)
                 ),
                 pass: Some(al.pass),
@@ -785,6 +811,31 @@ pub fn plot_data(rig: &Rig, ci: usize, ins: &Inspection) -> Option<plot::PlotDat
                 required_db: None,
             });
         }
+    }
+    if let Some((fmod, m)) = modulator {
+        let n = (m.fold_from_hz / fmod).round().max(1.0);
+        let k = if n == 1.0 {
+            String::new()
+        } else {
+            format!("{}", n as u64)
+        };
+        let side = if m.fold_from_hz < n * fmod {
+            "−"
+        } else {
+            "+"
+        };
+        markers.push(plot::Marker {
+            kind: plot::MarkerKind::Modulator,
+            frequency_hz: m.fold_from_hz,
+            attenuation_db: m.attenuation_db,
+            label: format!(
+                "modulator: {k}f_mod {side} B = {}: {} (analog chain alone)",
+                format_hz(m.fold_from_hz),
+                crate::words::format_db(m.attenuation_db)
+            ),
+            pass: Some(m.pass),
+            required_db: None,
+        });
     }
     if let Some((fr, gain)) = ins.sensor.as_ref().and_then(|s| s.resonance) {
         // The rate change where the resonance folds into the band, else the ADC.
@@ -867,9 +918,11 @@ pub fn plot_data(rig: &Rig, ci: usize, ins: &Inspection) -> Option<plot::PlotDat
     // out the images an earlier rate change already folded (multiples of its factor).
     let mut images = Vec::new();
     let mut half_rates = Vec::new();
+    // The modulator's own images are drawn as such, not as the ADC's.
+    let mod_ratio = modulator.map_or(0, |(fmod, _)| (fmod / fs0).round() as u32);
     for rc in &chain.changes {
         let fs = rc.fs_hz();
-        let skip = if rc.stage == 0 { 0 } else { rc.factor };
+        let skip = if rc.stage == 0 { mod_ratio } else { rc.factor };
         let name = if rc.stage == 0 {
             "ADC".to_string()
         } else {
@@ -911,7 +964,8 @@ pub fn plot_data(rig: &Rig, ci: usize, ins: &Inspection) -> Option<plot::PlotDat
             images.push(plot::Image {
                 low_hz: (c - band).max(f_min),
                 high_hz: (c + band).min(f_max),
-                label: if k == 1 {
+                // The modulator marker names the first image when it is drawn.
+                label: if k == 1 && modulator.is_none() {
                     "f_mod ± B".to_string()
                 } else {
                     String::new()

@@ -3,9 +3,10 @@
 //!
 //! The x axis is logarithmic frequency; the y axis is the chain's attenuation in dB,
 //! growing downwards (so the curve reads like a low-pass response). The picture shows
-//! the band, the required rejection, the lowest folding frequency `fs − B` of every rate
-//! change, the images of the band around each multiple of the ADC rate, and the sensor
-//! resonance and disturbance tones. Everything drawn is worked out by
+//! the band, the required rejection, the least attenuated folding frequency of every rate
+//! change, the images of the band around the multiples of every rate change's rate, a
+//! delta-sigma converter's modulator images and its worst one, and the sensor resonance
+//! and disturbance tones. Everything drawn is worked out by
 //! [`super::plot_data`]; this module only lays it out.
 
 use crate::words::{ATTENUATION_CEILING_DB, format_hz};
@@ -35,6 +36,9 @@ pub enum MarkerKind {
     Resonance,
     /// A disturbance tone.
     Disturbance,
+    /// The worst modulator image of a delta-sigma converter, at the analog chain's
+    /// attenuation there.
+    Modulator,
 }
 
 /// A labelled frequency.
@@ -356,6 +360,7 @@ fn marker_colour(m: &Marker) -> RGBColor {
         (MarkerKind::Fold, _) => RGBColor(20, 130, 60),
         (MarkerKind::Resonance, _) => RGBColor(170, 90, 0),
         (MarkerKind::Disturbance, _) => RGBColor(120, 50, 160),
+        (MarkerKind::Modulator, _) => MODULATOR_MARK,
     }
 }
 
@@ -373,6 +378,8 @@ const STAGE_COLOURS: [RGBColor; 5] = [
 ];
 /// Modulator images.
 const MODULATOR_COLOUR: RGBColor = RGBColor(110, 110, 110);
+/// The modulator marker (darker than its images, so it reads on them).
+const MODULATOR_MARK: RGBColor = RGBColor(60, 60, 60);
 
 /// The colour of a rate change's images and fs/2 line (`None`: modulator images).
 pub fn stage_colour(stage: Option<usize>) -> RGBColor {
@@ -510,7 +517,13 @@ fn draw(d: &PlotData, svg: &mut String) -> DrawResult {
     if d.markers.iter().any(|m| m.kind == MarkerKind::Fold) {
         legend.push((
             Swatch::Dot(RGBColor(20, 130, 60)),
-            "fs − B: lowest frequency folding into the band (red: too little attenuation)"
+            "worst folding point of each rate change (red: too little attenuation)".to_string(),
+        ));
+    }
+    if d.markers.iter().any(|m| m.kind == MarkerKind::Modulator) {
+        legend.push((
+            Swatch::Square(MODULATOR_MARK),
+            "worst modulator image: what the analog chain alone gives there (red: too little)"
                 .to_string(),
         ));
     }
@@ -585,6 +598,7 @@ fn draw(d: &PlotData, svg: &mut String) -> DrawResult {
     for im in &d.images {
         let fill = match im.stage {
             Some(_) if !several => IMAGE_FILL.mix(0.55),
+            None => MODULATOR_COLOUR.mix(0.5),
             other => stage_colour(other).mix(0.28),
         };
         chart.draw_series(std::iter::once(Rectangle::new(
@@ -658,6 +672,13 @@ fn draw(d: &PlotData, svg: &mut String) -> DrawResult {
             }
             MarkerKind::Disturbance => {
                 chart.draw_series(std::iter::once(Cross::new(at, 7, c.stroke_width(3))))?;
+            }
+            MarkerKind::Modulator => {
+                let (x, y) = chart.backend_coord(&at);
+                root.draw(&Rectangle::new(
+                    [(x - 6, y - 6), (x + 6, y + 6)],
+                    c.filled(),
+                ))?;
             }
         }
     }
@@ -881,6 +902,7 @@ enum Swatch {
     Dot(RGBColor),
     Triangle(RGBColor),
     Cross(RGBColor),
+    Square(RGBColor),
 }
 
 fn draw_legend(
@@ -922,6 +944,12 @@ fn draw_legend(
             }
             Swatch::Cross(c) => {
                 root.draw(&Cross::new((x + 14, y), 7, c.stroke_width(3)))?;
+            }
+            Swatch::Square(c) => {
+                root.draw(&Rectangle::new(
+                    [(x + 8, y - 6), (x + 20, y + 6)],
+                    c.filled(),
+                ))?;
             }
         }
         root.draw(&Text::new(

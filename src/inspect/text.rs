@@ -1,6 +1,6 @@
 //! The human form of `inspect`: plain text, one fact a line, the numbers with units.
 
-use super::{ClockInfo, DelayInfo, DisturbanceOutcome, Inspection, StageInfo};
+use super::{ClockInfo, DelayInfo, DisturbanceOutcome, Inspection, StageInfo, image_name};
 use crate::words::{
     db_text, exact_suffix, format_bytes, format_db, format_hz, format_seconds, rate_text, sig6,
 };
@@ -407,26 +407,6 @@ fn latency(out: &mut String, d: &DelayInfo, b: f64) {
             format_seconds(d.analog_dc_s)
         ),
     );
-}
-
-/// Which image a folding frequency belongs to: `fs − B = 43 kHz`, `2·fs − B = 91 kHz`,
-/// or a point inside an image band (`98 kHz, inside 2·fs ± B`). `rate` is the rate the
-/// images repeat at, `name` its symbol.
-fn image_name(f: f64, rate: f64, band: f64, name: &str) -> String {
-    let n = (f / rate).round().max(1.0);
-    let k = if n == 1.0 {
-        name.to_string()
-    } else {
-        format!("{}·{name}", sig6(n))
-    };
-    let tol = 1e-9 * f.abs().max(1.0);
-    if (f - (n * rate - band)).abs() <= tol {
-        format!("{k} − B = {}", format_hz(f))
-    } else if (f - (n * rate + band)).abs() <= tol {
-        format!("{k} + B = {}", format_hz(f))
-    } else {
-        format!("{}, inside {k} ± B", format_hz(f))
-    }
 }
 
 /// Shows -0.00 as 0.00.
