@@ -171,8 +171,8 @@ fn shape_key(rig: &Rig, index: usize, ch: &RChannel) -> String {
             st.filter.as_ref().map(|f| &f.response)
         );
     }
-    for (di, targets) in rig.disturbance_targets.iter().enumerate() {
-        if targets.contains(&index) {
+    for di in 0..rig.disturbance_targets.len() {
+        if rig.reaches(di, index) {
             let _ = write!(k, "|t{di}");
         }
     }

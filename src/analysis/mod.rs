@@ -1093,7 +1093,7 @@ pub fn analyse_rates(
     if enabled.has(RateRule::DisturbanceAlias) {
         for (di, d) in rig.disturbances.iter().enumerate() {
             let Some(freq) = &d.frequency else { continue };
-            if !rig.disturbance_targets[di].contains(&index) {
+            if !rig.reaches(di, index) {
                 continue;
             }
             let fd = to_f64(&freq.value);

@@ -288,6 +288,8 @@ struct VerifyCtx<'a> {
     rig_paths: HashSet<PathBuf>,
     /// Texts by absolute path.
     texts: HashMap<PathBuf, FileId>,
+    /// Each file's absolute path, by id (asked once, not once per finding per check).
+    abs: Vec<PathBuf>,
     /// For each edited catalog: rigs under the root that include it but were not linted
     /// in this run, with the identities of their findings before the edit.
     extra: Mutex<HashMap<PathBuf, Arc<Extra>>>,
@@ -306,10 +308,11 @@ impl<'a> VerifyCtx<'a> {
             })
             .collect();
         let rig_paths = rig_files.iter().map(|(_, f)| f[0].clone()).collect();
+        let abs: Vec<PathBuf> = out.sources.iter().map(|f| absolute(&f.path)).collect();
         let texts = out
             .sources
             .iter()
-            .map(|f| (absolute(&f.path), f.id))
+            .map(|f| (abs[f.id as usize].clone(), f.id))
             .collect();
         VerifyCtx {
             out,
@@ -317,6 +320,7 @@ impl<'a> VerifyCtx<'a> {
             rig_files,
             rig_paths,
             texts,
+            abs,
             extra: Mutex::new(HashMap::new()),
         }
     }
@@ -467,7 +471,7 @@ impl<'a> VerifyCtx<'a> {
             .out
             .findings
             .iter()
-            .filter(|f| files.contains(&absolute(&self.out.sources.get(f.primary.span.file).path)))
+            .filter(|f| files.contains(&self.abs[f.primary.span.file as usize]))
             .map(|f| identity(&self.out.sources, f, Some(&shift)))
             .collect();
         if !catalogs.is_empty() {

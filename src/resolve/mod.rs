@@ -190,7 +190,8 @@ pub struct Rig {
     pub group_members: Vec<Vec<usize>>,
     /// Disturbances.
     pub disturbances: Vec<Disturbance>,
-    /// Channels each disturbance reaches.
+    /// Channels each disturbance reaches, ascending and without repeats (see
+    /// [`Rig::reaches`]).
     pub disturbance_targets: Vec<Vec<usize>>,
     /// Logger limits.
     pub logger: Option<Logger>,
@@ -199,6 +200,14 @@ pub struct Rig {
 }
 
 impl Rig {
+    /// Whether disturbance `d` reaches channel `channel` (a binary search: a rig of
+    /// 100 000 channels asks it for every channel).
+    pub fn reaches(&self, d: usize, channel: usize) -> bool {
+        self.disturbance_targets
+            .get(d)
+            .is_some_and(|t| t.binary_search(&channel).is_ok())
+    }
+
     /// A channel and the members of every group it belongs to (indices into
     /// [`Rig::channels`], sorted): what must be analysed to show that channel.
     pub fn scope_of(&self, channel: usize) -> Vec<usize> {
@@ -665,10 +674,15 @@ md.rate_span(), "not a multiple of the ADC rate",
         }
         let what = format!("disturbance `{}`", d.name.value);
         let targets = match &d.channels {
-            Some(list) => list
-                .iter()
-                .filter_map(|r| channel_names.lookup(&what, r, &mut out))
-                .collect(),
+            Some(list) => {
+                let mut t: Vec<usize> = list
+                    .iter()
+                    .filter_map(|r| channel_names.lookup(&what, r, &mut out))
+                    .collect();
+                t.sort_unstable();
+                t.dedup();
+                t
+            }
             None => (0..channels.len()).collect(),
         };
         disturbances.push(d.clone());
