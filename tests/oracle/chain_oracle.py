@@ -12,10 +12,23 @@ channel, and recomputes independently:
 - the chain's attenuation there and at the band edge, and its phase at the band edge,
   from scipy.signal.butter / cheby1 / bessel(norm='mag') with analog=True and freqs
   (phase unwrapped with numpy from DC on a dense grid),
-- for channels with a sinc (CIC) decimation stage: the stage's rate, its fs − B, and the
-  attenuation there: the analog chain plus the CIC, the latter as N cascaded M-tap moving
-  averages evaluated with scipy.signal.freqz at the stage's input rate (E. Hogenauer,
-  IEEE Trans. ASSP 29, 1981, from memory).
+- for channels with a sinc (CIC) decimation stage: the stage's rate, its worst image and
+  the attenuation there: the analog chain plus the CIC, the latter as N cascaded M-tap
+  moving averages evaluated with scipy.signal.freqz at the stage's input rate (E.
+  Hogenauer, IEEE Trans. ASSP 29, 1981, from memory);
+- the worst image beyond the first (`fold_from_hz`, docs/model.md §3): some sensors carry
+  a notched datasheet `table` (linear in dB over log-frequency, numpy.interp), and every
+  image band [n·fs − B, n·fs + B] (for a stage, n not a multiple of its factor) up to one
+  ADC period past the table is searched on a dense grid; foldcheck's point must lie in an
+  image band, carry the reference's attenuation there, and be no more attenuated than
+  the grid's least attenuated point (0.01 dB);
+- delta-sigma modules (docs/model.md §4): a modulator at R × the ADC rate (R from 16 to
+  256) with its own FIR; the worst modulator image [k·f_mod − B, k·f_mod + B] against the
+  analog chain alone, on a dense grid, and the ADC images guarded by the FIR's 150 dB;
+- latency (docs/model.md §2): the analog group delay at DC (Σ −Re(p)/|p|² over scipy's
+  poles, `output='zpk'`) plus the sinc's N·(M − 1)/2 input samples, and the analog group
+  delay at the band edge against a central difference of the unwrapped
+  scipy.signal.freqs_zpk phase (1e-5 relative).
 
 Groups (docs/model.md §5): seeded random pairs on one root clock, ending at one rate, one
 member sampled directly and the other faster and decimated through a sinc stage (delay
@@ -35,8 +48,9 @@ exactly (fractions) where they meet a rate:
 - `nyquist` at the first rate change with fs ≤ 2B,
 - `sampling-margin` at the first rate change before that with fs < 2.5·B (common
   practice, the built-in margin),
-- `alias-rejection` when, at a checked rate change, the attenuation at fs − B is below
-  the built-in 40 dB (reported at the worst rate change),
+- `alias-rejection` when, at a checked rate change, the worst image (or a modulator
+  image) is attenuated less than the built-in 40 dB (reported at the worst rate change;
+  within 0.05 dB of it not compared),
 - `passband-droop` when the chain attenuates B by more than 0.5 dB (whatever nyquist
   says),
 - `oversampling` when the final rate exceeds 20·B.
@@ -71,9 +85,27 @@ def analog_ba(kind, order, cutoff, ripple):
     return signal.bessel(order, wc, analog=True, norm="mag")
 
 
+def table_db(points, f):
+    """A datasheet table as docs/model.md §2 defines it: linear in dB over log-frequency
+    between points (numpy.interp on log10 f), 0 below the first point, the last value
+    held above the last."""
+    xs = np.log10([p[0] for p in points])
+    ys = [p[1] for p in points]
+    f = np.asarray(f, dtype=float)
+    return np.where(f < points[0][0], 0.0, np.interp(np.log10(np.maximum(f, 1e-300)), xs, ys))
+
+
+def analog_only(filters):
+    return [f for f in filters if f[0] != "table"]
+
+
 def attenuation_db(filters, f):
     total = 0.0
-    for kind, order, cutoff, ripple in filters:
+    for flt in filters:
+        if flt[0] == "table":
+            total += float(table_db(flt[1], f))
+            continue
+        kind, order, cutoff, ripple = flt
         b, a = analog_ba(kind, order, cutoff, ripple)
         _, h = signal.freqs(b, a, worN=[2 * math.pi * f])
         total += -20 * math.log10(abs(h[0]))
@@ -83,7 +115,11 @@ def attenuation_db(filters, f):
 def attenuation_vec(filters, f):
     """Attenuation (dB) of a chain of analog filters at an array of frequencies."""
     total = np.zeros_like(f)
-    for kind, order, cutoff, ripple in filters:
+    for flt in filters:
+        if flt[0] == "table":
+            total += table_db(flt[1], f)
+            continue
+        kind, order, cutoff, ripple = flt
         b, a = analog_ba(kind, order, cutoff, ripple)
         _, h = signal.freqs(b, a, worN=2 * math.pi * f)
         total += -20 * np.log10(np.abs(h))
@@ -92,12 +128,33 @@ def attenuation_vec(filters, f):
 
 def phase_deg(filters, f):
     total = 0.0
-    for kind, order, cutoff, ripple in filters:
+    for kind, order, cutoff, ripple in analog_only(filters):
         b, a = analog_ba(kind, order, cutoff, ripple)
         w = np.linspace(0.0, 2 * math.pi * f, 4000)
         _, h = signal.freqs(b, a, worN=w)
         total += math.degrees(np.unwrap(np.angle(h))[-1])
     return total
+
+
+def cic_vec(order, factor, fin, f):
+    """cic_db at an array of frequencies (nulls as +inf)."""
+    h = np.ones(factor) / factor
+    taps = np.array([1.0])
+    for _ in range(order):
+        taps = np.convolve(taps, h)
+    _, resp = signal.freqz(taps, worN=np.asarray(f, dtype=float), fs=fin)
+    with np.errstate(divide="ignore"):
+        return -20 * np.log10(np.abs(resp))
+
+
+def group_delay_numeric_s(filters, f):
+    """Group delay of the analog filters at f (> 0) as −dφ/dω: a central difference of
+    the unwrapped scipy.signal.freqs_zpk phase, a method independent of the pole sum."""
+    d = max(f * 1e-5, 1e-3)
+    grid = np.linspace(0.0, f + d, 20001)
+    grid = np.append(grid[grid < f - d], [f - d, f + d])
+    phi = np.radians(unwrapped_phase_deg(analog_only(filters), grid))
+    return -(phi[-1] - phi[-2]) / (2 * math.pi * 2 * d)
 
 
 def cic_db(order, factor, fin, f):
@@ -110,7 +167,10 @@ def cic_db(order, factor, fin, f):
     return math.inf if mag == 0 else -20 * math.log10(mag)
 
 
-def yaml_filter(kind, order, cutoff, ripple):
+def yaml_filter(kind, order=None, cutoff=None, ripple=None):
+    if kind == "table":
+        pts = ", ".join(f"[{fq} Hz, {db} dB]" for fq, db in order)
+        return f"{{ response: table, points: [{pts}] }}"
     extra = f", ripple: {ripple} dB" if kind == "chebyshev" else ""
     return f"{{ response: {kind}, order: {order}, cutoff: {cutoff} Hz{extra} }}"
 
@@ -131,11 +191,25 @@ def make_channel(rng, i):
     sensor = None
     if rng.random() < 0.3:
         sensor = ("butterworth", rng.randint(1, 3), round(band * rng.uniform(2.0, 6.0), 3), None)
+    elif float(fs) >= 3 * band and rng.random() < 0.3:
+        # A notched datasheet table: deep from 0.6·fs to 1.2·fs, rising back to a shallow
+        # value somewhere between 1.5·fs and 2.6·fs, so the worst image may lie beyond
+        # the first and inside an interpolated segment (docs/model.md §3).
+        f0 = float(fs)
+        sensor = ("table", [(round(band * 1.5, 3), 0.1), (round(0.6 * f0, 3), 100.0),
+                            (round(1.2 * f0, 3), 100.0),
+                            (round(rng.uniform(1.5, 2.6) * f0, 3), float(rng.randint(3, 60)))])
     stage = None
     if rng.random() < 0.4:
         stage = (rng.randint(2, 8), rng.randint(1, 5))  # (factor M, order N)
+    modulator = None
+    if stage is None and (sensor is None or sensor[0] != "table") and float(fs) >= 2.5 * band \
+            and rng.random() < 0.3:
+        # A delta-sigma module: modulator at R × the ADC rate, its own FIR (passband
+        # 0.45, stopband 0.55 of the ADC rate, 150 dB), periodic in the modulator rate.
+        modulator = rng.choice([16, 32, 64, 128, 256])
     return dict(name=f"ch-{i:03d}", root_text=root_text, root=root, divide=divide, fs=fs,
-                band=band, filters=filters, sensor=sensor, stage=stage)
+                band=band, filters=filters, sensor=sensor, stage=stage, modulator=modulator)
 
 
 def rig_text(channels):
@@ -143,6 +217,12 @@ def rig_text(channels):
     for c in channels:
         lines.append(f"  - {{ name: {c['name']}-osc, frequency: {c['root_text']} }}")
         lines.append(f"  - {{ name: {c['name']}-clk, source: {c['name']}-osc, divide: {c['divide']} }}")
+    mods = sorted({c["modulator"] for c in channels if c["modulator"]})
+    if mods:
+        lines.append("modules:")
+        for r in mods:
+            lines.append(f"  - {{ name: ds-{r}, modulator: {{ oversampling-ratio: {r}, filter: "
+                         "{ response: digital, passband-edge: 0.45, stopband-edge: 0.55, attenuation: 150 dB } } }")
     lines.append("sensors:")
     lines.append("  - { name: plain, bandwidth: 1 GHz }")
     for c in channels:
@@ -156,7 +236,8 @@ def rig_text(channels):
         if c["stage"]:
             m, n = c["stage"]
             dec = f", decimate: [{{ factor: {m}, filter: {{ response: sinc, order: {n} }} }}]"
-        lines.append(f"  - {{ name: {c['name']}, clock: {c['name']}-clk, sensor: {sensor}, band: {c['band']} Hz, filters: [{fl}]{dec} }}")
+        module = f", module: ds-{c['modulator']}" if c["modulator"] else ""
+        lines.append(f"  - {{ name: {c['name']}, clock: {c['name']}-clk, sensor: {sensor}{module}, band: {c['band']} Hz, filters: [{fl}]{dec} }}")
     return "\n".join(lines) + "\n"
 
 
@@ -172,7 +253,7 @@ def zpk(kind, order, cutoff, ripple):
 def unwrapped_phase_deg(filters, f_grid):
     """Unwrapped analog phase (deg) of a chain on a grid that starts at DC."""
     total = np.zeros_like(f_grid)
-    for flt in filters:
+    for flt in analog_only(filters):
         z, p, k = zpk(*flt)
         _, h = signal.freqs_zpk(z, p, k, worN=2 * math.pi * f_grid)
         total += np.degrees(np.unwrap(np.angle(h)))
@@ -181,7 +262,7 @@ def unwrapped_phase_deg(filters, f_grid):
 
 def dc_group_delay_s(filters):
     total = 0.0
-    for flt in filters:
+    for flt in analog_only(filters):
         z, p, _ = zpk(*flt)
         # τ(0) = Σ_poles −Re(p)/|p|² − Σ_zeros (same); these prototypes have no zeros.
         total += float(np.sum(-p.real / np.abs(p) ** 2))
@@ -281,6 +362,53 @@ def check_groups(binary, pairs, tmp, failures):
     return checked
 
 
+def chain_of(c):
+    return c["filters"] + ([c["sensor"]] if c["sensor"] else [])
+
+
+def worst_image_ref(c, k):
+    """The least attenuated point (f, dB) of the image bands of rate change k (0: the
+    ADC, 1: the sinc stage), recomputed on a dense grid of every band [n·fs_k − B,
+    n·fs_k + B] (n ≥ 1; for the stage, n not a multiple of its factor, whose images the
+    ADC already folded), plus the table points inside, up to one ADC period beyond the
+    table's last point (docs/model.md §3). Analog parts from scipy.signal.freqs, the
+    sinc as cascaded moving averages with scipy.signal.freqz."""
+    chain = chain_of(c)
+    fs0, band = float(c["fs"]), c["band"]
+    last_pt = max([p[0] for flt in chain if flt[0] == "table" for p in flt[1]], default=0.0)
+    table_pts = [p[0] for flt in chain if flt[0] == "table" for p in flt[1]]
+    if k == 0:
+        fs, skip = fs0, 0
+    else:
+        m, _ = c["stage"]
+        fs, skip = fs0 / m, m
+    top = math.ceil((last_pt + fs0 + band) / fs) + 1
+    best = (math.inf, math.inf)
+    for n in range(1, top + 1):
+        if skip and n % skip == 0:
+            continue
+        lo, hi = n * fs - band, n * fs + band
+        grid = np.concatenate([np.linspace(lo, hi, 401), [p for p in table_pts if lo < p < hi]])
+        a = attenuation_vec(chain, grid)
+        if k == 1:
+            m, order = c["stage"]
+            a = a + cic_vec(order, m, fs0, grid)
+        i = int(np.argmin(a))
+        if a[i] < best[1]:
+            best = (float(grid[i]), float(a[i]))
+    return best
+
+
+def modulator_ref(c):
+    """The worst modulator image (f, dB) against the analog chain alone: a dense grid of
+    [k·f_mod − B, k·f_mod + B] for k = 1, 2 (every response here keeps rising)."""
+    fmod, band = float(c["fs"]) * c["modulator"], c["band"]
+    grid = np.concatenate([np.linspace(k * fmod - band, k * fmod + band, 2001) for k in (1, 2)])
+    a = attenuation_vec(chain_of(c), grid)
+    i = int(np.argmin(a))
+    return float(grid[i]), float(a[i])
+
+
 RATE_RULES = ["nyquist", "sampling-margin", "alias-rejection", "passband-droop", "oversampling"]
 REQUIRED_DB = 40.0       # built-in required rejection (docs/model.md)
 MARGIN = Fraction(5, 2)  # built-in margin, common practice
@@ -292,7 +420,7 @@ NEAR_DB = 0.01
 def expected_findings(c):
     """The rate findings a channel must get: {rule: stage or None}, and the rules too
     close to their threshold to compare."""
-    chain = c["filters"] + ([c["sensor"]] if c["sensor"] else [])
+    chain = chain_of(c)
     band = Fraction(str(c["band"]))
     rates = [c["fs"]]
     if c["stage"]:
@@ -307,12 +435,10 @@ def expected_findings(c):
         expected["sampling-margin"] = margin
     worst = None
     for k, fs in enumerate(checked):
-        f = float(fs - band)
-        a = attenuation_db(chain, f)
-        if k == 1:
-            m, n = c["stage"]
-            a += cic_db(n, m, float(c["fs"]), f)
-        if abs(a - REQUIRED_DB) < NEAR_DB:
+        # A converter's own filter (150 dB stopband, periodic in the modulator rate)
+        # guards its ADC images; its modulator images meet the analog chain alone.
+        _, a = modulator_ref(c) if c["modulator"] else worst_image_ref(c, k)
+        if abs(a - REQUIRED_DB) < 0.05:
             unsure.add("alias-rejection")
         if a < REQUIRED_DB and (worst is None or a < worst[1]):
             worst = (k, a)
@@ -342,7 +468,8 @@ def main():
     channels = [make_channel(rng, i) for i in range(args.channels)]
     pairs = [make_pair(rng, i) for i in range(args.groups)]
     failures = []
-    counts = {"adc alias": 0, "stage alias": 0, "findings": 0, "compared": 0, "interior worst": 0}
+    counts = {"adc alias": 0, "stage alias": 0, "findings": 0, "compared": 0, "interior worst": 0,
+              "modulator": 0, "latency": 0}
     with tempfile.TemporaryDirectory() as tmp:
         path = os.path.join(tmp, "oracle.rig.yaml")
         with open(path, "w") as f:
@@ -377,7 +504,7 @@ def main():
                 failures.append(f"{c['name']}: exit {out.returncode}: {out.stderr.strip()}")
                 continue
             r = json.loads(out.stdout)
-            chain = c["filters"] + ([c["sensor"]] if c["sensor"] else [])
+            chain = chain_of(c)
             a0 = r["analysis"]["rate_changes"][0]
             fs = float(c["fs"])
             band = c["band"]
@@ -392,7 +519,30 @@ def main():
             check("ratio", a0["ratio"], fs / band, 1e-9)
             if a0["nyquist"] != (fs > 2 * band):
                 failures.append(f"{c['name']}: nyquist verdict {a0['nyquist']} at fs/B = {fs / band}")
-            if a0["alias"] is not None:
+            if a0["alias"] is not None and c["modulator"]:
+                # The converter's filter gives 150 dB on every ADC image.
+                if a0["alias"]["attenuation_db"] < 150.0 - 0.01:
+                    failures.append(f"{c['name']}: ADC image {a0['alias']['attenuation_db']} dB below the converter's 150 dB")
+            if c["modulator"]:
+                counts["modulator"] += 1
+                m = a0["modulator"]
+                fmod = fs * c["modulator"]
+                if m is None:
+                    failures.append(f"{c['name']}: no modulator check at {fmod} Hz")
+                else:
+                    check("modulator rate", m["rate_hz"], fmod, 1e-9 * fmod)
+                    got_f, got_a = m["fold_from_hz"], m["attenuation_db"]
+                    k = round(got_f / fmod)
+                    if k < 1 or abs(got_f - k * fmod) > band * (1 + 1e-9):
+                        failures.append(f"{c['name']}: modulator fold_from {got_f} outside [k·{fmod} ± {band}]")
+                    want = attenuation_db(chain, got_f)
+                    check(f"modulator attenuation at {got_f} Hz", got_a, want, 0.01 + 1e-6 * want)
+                    _, ref_a = modulator_ref(c)
+                    if got_a > ref_a + 0.01:
+                        failures.append(f"{c['name']}: worst modulator image {got_a} dB above scipy's {ref_a} dB")
+            elif a0["modulator"] is not None:
+                failures.append(f"{c['name']}: a modulator check without a modulator")
+            if a0["alias"] is not None and not c["modulator"]:
                 # The worst image (docs/model.md §3): the least attenuated point of the
                 # image bands [n·fs − B, n·fs + B], here on a dense grid of the first
                 # three (every response in these chains rises beyond them). foldcheck's
@@ -406,8 +556,7 @@ def main():
                     failures.append(f"{c['name']}: fold_from {got_f} outside the image bands of {fs} Hz")
                 want = attenuation_db(chain, got_f)
                 check(f"attenuation at {got_f} Hz (dB)", got_a, want, 0.01 + 1e-6 * want)
-                grid = np.concatenate([np.linspace(k * fs - band, k * fs + band, 2001) for k in (1, 2, 3)])
-                grid_min = float(np.min(attenuation_vec(chain, grid)))
+                _, grid_min = worst_image_ref(c, 0)
                 if got_a > grid_min + 0.01:
                     failures.append(f"{c['name']}: worst image {got_a} dB above scipy's grid minimum {grid_min} dB")
                 if abs(got_f - (fs - band)) > 1e-6 * fs:
@@ -426,23 +575,46 @@ def main():
                         failures.append(f"{c['name']}: stage 1 alias not checked at fs1/B = {fs1 / band}")
                     else:
                         counts["stage alias"] += 1
-                        f1 = fs1 - band
-                        check("stage 1 fold_from", a1["alias"]["fold_from_hz"], f1, 1e-6 * fs1)
+                        # The worst point of the stage's image bands (n not a multiple of
+                        # M), checked like the ADC's.
+                        f1 = a1["alias"]["fold_from_hz"]
+                        n1 = round(f1 / fs1)
+                        if n1 < 1 or n1 % m == 0 or abs(f1 - n1 * fs1) > band * (1 + 1e-9):
+                            failures.append(f"{c['name']}: stage 1 fold_from {f1} outside its image bands")
+                        if abs(f1 - (fs1 - band)) > 1e-6 * fs1:
+                            counts["interior worst"] += 1
                         want = attenuation_db(chain, f1) + cic_db(n, m, fs, f1)
                         got = a1["alias"]["attenuation_db"]
                         if not (want > 300 and got >= 299.999):
-                            check("stage 1 attenuation at fs-B (dB)", got, want, 0.01 + 1e-6 * want)
+                            check("stage 1 attenuation at its worst image (dB)", got, want, 0.01 + 1e-6 * want)
+                        _, ref1 = worst_image_ref(c, 1)
+                        if got > ref1 + 0.01:
+                            failures.append(f"{c['name']}: stage 1 worst image {got} dB above scipy's grid minimum {ref1} dB")
                 elif a0["nyquist"] and a1["nyquist"]:
                     failures.append(f"{c['name']}: stage 1 nyquist verdict at fs1/B = {fs1 / band}")
             check("attenuation at B (dB)", pb["attenuation_db"], want_pb, 0.01)
+            # Latency (docs/model.md §2): the sinc's N·(M − 1)/2 input samples plus the
+            # analog group delay at DC, Σ −Re(p)/|p|² over scipy's poles; the group delay
+            # at the band edge against a numerical derivative of scipy's phase.
+            lat = r["analysis"]["latency"]
+            digital = c["stage"][1] * (c["stage"][0] - 1) / 2 / fs if c["stage"] else 0.0
+            dc = dc_group_delay_s(chain)
+            check("analog group delay at DC (s)", lat["analog_group_delay_dc_s"], dc, 1e-12 + 1e-9 * dc)
+            check("latency (s)", lat["latency_s"], dc + digital, 1e-12 + 1e-9 * (dc + digital))
+            edge = group_delay_numeric_s(chain, band)
+            check("analog group delay at B (s)", lat["analog_group_delay_band_edge_s"], edge, 1e-12 + 1e-5 * abs(edge))
+            counts["latency"] += 1
             check("phase at B (deg)", r["analysis"]["phase_at_band_deg"], phase_deg(chain, band), 0.1)
         groups_checked = check_groups(args.binary, pairs, tmp, failures)
     print(f"{groups_checked} group pairs checked (phase over the common band with digital delays, latency difference)")
     print(f"{len(channels)} channels checked against scipy {__import__('scipy').__version__} "
-          f"({counts['adc alias']} ADC folds, {counts['stage alias']} decimation-stage folds; "
+          f"({counts['adc alias']} ADC folds, {counts['stage alias']} decimation-stage folds, "
+          f"{counts['interior worst']} worst images beyond fs − B, {counts['modulator']} modulator checks, "
+          f"{counts['latency']} latencies; "
           f"{counts['compared']} rule verdicts of `check` compared, {counts['findings']} findings expected): "
           f"{len(failures)} mismatches")
-    if counts["adc alias"] == 0 or counts["stage alias"] == 0 or counts["findings"] < 20:
+    if (counts["adc alias"] == 0 or counts["stage alias"] == 0 or counts["findings"] < 20
+            or counts["modulator"] == 0 or counts["interior worst"] == 0):
         print("  the random rigs exercised too little: change the seed or the channel count")
         failures.append("coverage")
     for f in failures[:40]:
