@@ -637,6 +637,50 @@ impl StageInfo {
     }
 }
 
+impl StageInfo {
+    /// This rate change's alias checks as [`AliasFailure`]s with their verdicts: the
+    /// image edge (fs − B), the modulator image and the resonance (a resonance that
+    /// does not fold into the band has no verdict: `None`).
+    fn fold_checks(&self) -> [Option<(AliasFailure, Option<bool>)>; 3] {
+        let at = |a: &AliasCheck, modulator_hz: Option<f64>| AliasFailure {
+            stage: self.stage,
+            fold_from_hz: a.fold_from_hz,
+            folds_to_hz: crate::signal::fold::fold(a.fold_from_hz, self.rate_hz()),
+            attenuation_db: a.attenuation_db,
+            required_db: a.required_db,
+            resonance: None,
+            modulator_hz,
+        };
+        [
+            self.alias.as_ref().map(|a| (at(a, None), Some(a.pass))),
+            self.modulator
+                .as_ref()
+                .map(|(fmod, a)| (at(a, Some(*fmod)), Some(a.pass))),
+            self.resonance.as_ref().map(|r| {
+                let c = AliasFailure {
+                    stage: self.stage,
+                    fold_from_hz: r.frequency_hz,
+                    folds_to_hz: r.lands_at_hz,
+                    attenuation_db: r.net_db,
+                    required_db: r.required_db,
+                    resonance: Some((r.frequency_hz, r.gain_db)),
+                    modulator_hz: None,
+                };
+                (c, r.pass)
+            }),
+        ]
+    }
+}
+
+/// The least attenuated of `checks` (ties: the first).
+fn lowest(checks: impl Iterator<Item = AliasFailure>) -> Option<AliasFailure> {
+    checks.fold(None, |worst: Option<AliasFailure>, c| match worst {
+        Some(w) if c.attenuation_db < w.attenuation_db => Some(c),
+        None => Some(c),
+        kept => kept,
+    })
+}
+
 /// The check at the lowest folding frequency of one rate change.
 #[derive(Clone, Debug)]
 pub struct AliasCheck {
@@ -834,101 +878,28 @@ impl RateAnalysis {
 
     /// The worst failing alias check over every checked rate change (ties: the first).
     pub fn alias_failure(&self) -> Option<AliasFailure> {
-        let mut worst: Option<AliasFailure> = None;
-        for s in &self.stages {
-            let mut cands = Vec::new();
-            if let Some(a) = s.alias.as_ref().filter(|a| !a.pass) {
-                cands.push(AliasFailure {
-                    stage: s.stage,
-                    fold_from_hz: a.fold_from_hz,
-                    folds_to_hz: crate::signal::fold::fold(a.fold_from_hz, s.rate_hz()),
-                    attenuation_db: a.attenuation_db,
-                    required_db: a.required_db,
-                    resonance: None,
-                    modulator_hz: None,
-                });
-            }
-            if let Some((fmod, a)) = s.modulator.as_ref().filter(|m| !m.1.pass) {
-                cands.push(AliasFailure {
-                    stage: s.stage,
-                    fold_from_hz: a.fold_from_hz,
-                    folds_to_hz: crate::signal::fold::fold(a.fold_from_hz, s.rate_hz()),
-                    attenuation_db: a.attenuation_db,
-                    required_db: a.required_db,
-                    resonance: None,
-                    modulator_hz: Some(*fmod),
-                });
-            }
-            if let Some(r) = s.resonance.as_ref().filter(|r| r.pass == Some(false)) {
-                cands.push(AliasFailure {
-                    stage: s.stage,
-                    fold_from_hz: r.frequency_hz,
-                    folds_to_hz: r.lands_at_hz,
-                    attenuation_db: r.net_db,
-                    required_db: r.required_db,
-                    resonance: Some((r.frequency_hz, r.gain_db)),
-                    modulator_hz: None,
-                });
-            }
-            for c in cands {
-                if worst
-                    .as_ref()
-                    .is_none_or(|w| c.attenuation_db < w.attenuation_db)
-                {
-                    worst = Some(c);
-                }
-            }
-        }
-        worst
+        lowest(self.stages.iter().flat_map(|s| {
+            let [edge, modulator, resonance] = s.fold_checks();
+            [edge, modulator, resonance]
+                .into_iter()
+                .flatten()
+                .filter(|(_, pass)| *pass == Some(false))
+                .map(|(c, _)| c)
+        }))
     }
 
     /// The lowest alias check over every checked rate change, passing or not: the
     /// attenuation at fs − B, or the net attenuation of a resonance that folds into the
     /// band (ties: the first). What `diff` compares.
     pub fn worst_fold(&self) -> Option<AliasFailure> {
-        let mut worst: Option<AliasFailure> = None;
-        for s in &self.stages {
-            let edge = s.alias.as_ref().map(|a| AliasFailure {
-                stage: s.stage,
-                fold_from_hz: a.fold_from_hz,
-                folds_to_hz: crate::signal::fold::fold(a.fold_from_hz, s.rate_hz()),
-                attenuation_db: a.attenuation_db,
-                required_db: a.required_db,
-                resonance: None,
-                modulator_hz: None,
-            });
-            let modulator = s.modulator.as_ref().map(|(fmod, a)| AliasFailure {
-                stage: s.stage,
-                fold_from_hz: a.fold_from_hz,
-                folds_to_hz: crate::signal::fold::fold(a.fold_from_hz, s.rate_hz()),
-                attenuation_db: a.attenuation_db,
-                required_db: a.required_db,
-                resonance: None,
-                modulator_hz: Some(*fmod),
-            });
-            let res = s
-                .resonance
-                .as_ref()
-                .filter(|r| r.pass.is_some())
-                .map(|r| AliasFailure {
-                    stage: s.stage,
-                    fold_from_hz: r.frequency_hz,
-                    folds_to_hz: r.lands_at_hz,
-                    attenuation_db: r.net_db,
-                    required_db: r.required_db,
-                    resonance: Some((r.frequency_hz, r.gain_db)),
-                    modulator_hz: None,
-                });
-            for c in edge.into_iter().chain(res).chain(modulator) {
-                if worst
-                    .as_ref()
-                    .is_none_or(|w| c.attenuation_db < w.attenuation_db)
-                {
-                    worst = Some(c);
-                }
-            }
-        }
-        worst
+        lowest(self.stages.iter().flat_map(|s| {
+            let [edge, modulator, resonance] = s.fold_checks();
+            [edge, resonance, modulator]
+                .into_iter()
+                .flatten()
+                .filter(|(_, pass)| pass.is_some())
+                .map(|(c, _)| c)
+        }))
     }
 
     /// The disturbances that fold into the band without enough attenuation, with the

@@ -313,12 +313,10 @@ fn phase_finding(
     } else {
         ((b, cmp.phases_deg.1), (a, cmp.phases_deg.0))
     };
+    // The member a positive difference (a − b) makes the later one comes first.
+    let later_first = |d: f64| if d > 0.0 { (an, bn) } else { (bn, an) };
     let latency = if cmp.delay_difference_s.abs() >= 1e-9 {
-        let (late, early) = if cmp.delay_difference_s > 0.0 {
-            (an, bn)
-        } else {
-            (bn, an)
-        };
+        let (late, early) = later_first(cmp.delay_difference_s);
         format!(
             "; `{late}` lags `{early}` by {} at DC",
             format_seconds(crate::words::round_sig(cmp.delay_difference_s.abs(), 4))
@@ -328,11 +326,7 @@ fn phase_finding(
     };
     let digital_deg = 360.0 * cmp.frequency_hz * cmp.digital_difference_s;
     let help = if digital_deg.abs() > tol {
-        let (slow, fast) = if cmp.digital_difference_s > 0.0 {
-            (an, bn)
-        } else {
-            (bn, an)
-        };
+        let (slow, fast) = later_first(cmp.digital_difference_s);
         format!(
             "the digital stages of `{slow}` delay it {} more than `{fast}`: give both the same decimation chain, or shift `{fast}` by that delay in the analysis and raise the tolerance",
             format_seconds(crate::words::round_sig(cmp.digital_difference_s.abs(), 4))
