@@ -58,6 +58,9 @@ pub struct Options {
     /// asks for them ([`crate::fix::verify_only`]): until then a finding's `fix` and
     /// `help` are the rule's unverified proposal.
     pub verify_fixes: bool,
+    /// Search fix candidates for failing channels (on by default). Verification's
+    /// re-lints turn it off: they only need the findings, not new candidates.
+    pub propose_fixes: bool,
 }
 
 /// Texts held in memory that stand in for the files at these paths: an editor's open
@@ -77,6 +80,7 @@ impl Default for Options {
             identity_base: None,
             scope: None,
             verify_fixes: true,
+            propose_fixes: true,
         }
     }
 }
@@ -180,16 +184,19 @@ struct Ctx {
     overlay: Option<Arc<Overlay>>,
     /// See [`Options::scope`].
     scope: Option<String>,
+    /// See [`Options::propose_fixes`].
+    propose_fixes: bool,
 }
 
 impl Ctx {
-    fn new(max_file_bytes: u64, overlay: Option<Arc<Overlay>>, scope: Option<String>) -> Self {
+    fn new(opts: &Options) -> Self {
         Ctx {
             sources: Mutex::new(Sources::new()),
             catalogs: Mutex::new(HashMap::new()),
-            max_file_bytes,
-            overlay,
-            scope,
+            max_file_bytes: opts.max_file_bytes,
+            overlay: opts.overlay.clone(),
+            scope: opts.scope.clone(),
+            propose_fixes: opts.propose_fixes,
         }
     }
 }
@@ -241,11 +248,7 @@ pub fn run(paths: &[PathBuf], opts: &Options) -> Result<Outcome, Fatal> {
 
 /// Lint these jobs (no verification of fixes).
 pub(crate) fn run_jobs(jobs: Vec<Job>, opts: &Options) -> Result<Outcome, Fatal> {
-    let ctx = Ctx::new(
-        opts.max_file_bytes,
-        opts.overlay.clone(),
-        opts.scope.clone(),
-    );
+    let ctx = Ctx::new(opts);
     let done = std::sync::atomic::AtomicUsize::new(0);
     let total = jobs.len();
     let show = opts.progress && total >= PROGRESS_FROM;
@@ -1057,7 +1060,8 @@ fn lint_loaded(ctx: &Ctx, job: &Job, keep: bool, mut loaded: Loaded) -> RigResul
     let on = |rule: &str| {
         crate::rules::rule(rule).is_none_or(|r| job.settings.level(rule, r.severity) != Level::Off)
     };
-    let actx = crate::analysis::Context::new(crate::analysis::Enabled::from_fn(on));
+    let actx = crate::analysis::Context::new(crate::analysis::Enabled::from_fn(on))
+        .with_fixes(ctx.propose_fixes);
     let scope = ctx
         .scope
         .as_deref()

@@ -444,6 +444,117 @@ fn a_catalog_fix_needs_include_catalogs_and_says_what_it_reaches() {
     assert_eq!(code, 0, "{report}");
 }
 
+/// A catalog clock (24.576 MHz / 2048 = 12 kHz) shared by two rigs: `bay-east` samples a
+/// 10 kHz band on it (not above twice the band), `bay-west` two 2 kHz channels, behind a
+/// card that accepts at most `west_max_rate` when one is given.
+fn catalog_clock_campaign(dir: &Path, west_max_rate: Option<&str>) {
+    fs::create_dir_all(dir.join("catalog")).unwrap();
+    fs::write(dir.join("foldcheck.toml"), "").unwrap();
+    fs::write(
+        dir.join("catalog/bay.yaml"),
+        "format: 1\ncatalog: bay\nclocks:\n  - { name: bay-osc, frequency: 24.576 MHz }\n  # the frame clock of both bays\n  - { name: bay-frame, source: bay-osc, divide: 2048 }\n",
+    )
+    .unwrap();
+    fs::write(
+        dir.join("east.rig.yaml"),
+        "format: 1\nrig: bay-east\ninclude: [catalog/bay.yaml]\nchannels:\n  - name: east-strain\n    clock: bay-frame\n    band: 10 kHz\n    alias-rejection: 40 dB\n    filters: [{ response: butterworth, order: 8, cutoff: 12 kHz }]\n",
+    )
+    .unwrap();
+    let mut west = String::from("format: 1\nrig: bay-west\ninclude: [catalog/bay.yaml]\n");
+    if let Some(max) = west_max_rate {
+        west.push_str(&format!(
+            "modules:\n  - {{ name: west-card, max-rate: {max} }}\n"
+        ));
+    }
+    west.push_str("channels:\n");
+    for i in 0..2 {
+        west.push_str(&format!(
+            "  - {{ name: west-{i}, clock: bay-frame, band: 2 kHz, alias-rejection: 40 dB, filters: [{{ response: butterworth, order: 8, cutoff: 3 kHz }}]{} }}\n",
+            if west_max_rate.is_some() { ", module: west-card" } else { "" }
+        ));
+    }
+    fs::write(dir.join("west.rig.yaml"), west).unwrap();
+}
+
+#[test]
+fn a_divider_in_a_shared_catalog_is_verified_in_every_rig_and_applied_only_with_include_catalogs() {
+    let tmp = tempfile::tempdir().unwrap();
+    catalog_clock_campaign(tmp.path(), None);
+    let catalog = tmp.path().join("catalog/bay.yaml");
+    let original = fs::read_to_string(&catalog).unwrap();
+    let (before, code) = common::check_json(tmp.path(), &["."]);
+    assert_eq!(code, 1, "{before}");
+    // Linting `bay-east` alone: the edit is still verified in `bay-west`, which includes
+    // the catalog, and the fix says which rigs and how many channels it reaches.
+    let (report, _) = common::check_json(tmp.path(), &["east.rig.yaml"]);
+    let f = report["findings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|f| f["rule"] == "nyquist")
+        .unwrap_or_else(|| panic!("no nyquist finding: {report}"));
+    // 40 dB from an 8th-order Butterworth at 12 kHz needs fs − 10 kHz ≥ 12 kHz ×
+    // 10^(40/160) (closed form): fs ≥ 31.34 kHz, so 24.576 MHz / 784 = 31.3469 kHz.
+    let description = "divide `bay-osc` by 784 instead of 2048 in clock `bay-frame` to sample at 31.3469 kHz (in a shared catalog: reaches 3 channels in 2 rigs: `bay-east`, `bay-west`)";
+    assert_eq!(f["fix"]["description"], description, "{f}");
+    assert_eq!(
+        f["help"], description,
+        "the help says what the fix does: {f}"
+    );
+    let edits = f["fix"]["edits"].as_array().unwrap();
+    assert_eq!(edits.len(), 1);
+    assert!(
+        edits[0]["file"].as_str().unwrap().ends_with("bay.yaml"),
+        "{f}"
+    );
+    assert_eq!(edits[0]["replacement"], "784");
+    // Without --include-catalogs: not applied, and said so with the reach.
+    let out = common::run_in(tmp.path(), &["fix", "--color", "never", "."]);
+    let stdout = String::from_utf8_lossy(&out.stdout);
+    assert!(
+        stdout.contains("not fixed (edits a shared catalog; pass --include-catalogs)")
+            && stdout.contains(description),
+        "{stdout}"
+    );
+    assert_eq!(fs::read_to_string(&catalog).unwrap(), original);
+    // With it: the divider is the only byte change, and both rigs are clean.
+    let out = common::run_in(
+        tmp.path(),
+        &["fix", "--include-catalogs", "--color", "never", "."],
+    );
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stdout)
+    );
+    assert_eq!(
+        fs::read_to_string(&catalog).unwrap(),
+        original.replace("divide: 2048", "divide: 784")
+    );
+    let (after, code) = common::check_json(tmp.path(), &["."]);
+    assert_eq!(code, 0, "{after}");
+}
+
+#[test]
+fn a_catalog_divider_that_would_break_another_rig_is_not_proposed() {
+    // `bay-west`'s card accepts at most 20 kHz: the 31.3469 kHz that fixes `bay-east`
+    // would raise a `module-rate` error there, so verification drops the edit and the
+    // help falls back to advice that proposes no edit.
+    let tmp = tempfile::tempdir().unwrap();
+    catalog_clock_campaign(tmp.path(), Some("20 kHz"));
+    let (report, _) = common::check_json(tmp.path(), &["east.rig.yaml"]);
+    let f = report["findings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|f| f["rule"] == "nyquist")
+        .unwrap_or_else(|| panic!("no nyquist finding: {report}"));
+    assert!(f.get("fix").is_none(), "{f}");
+    let help = f["help"].as_str().unwrap_or("");
+    assert!(!help.contains("784") && !help.contains("divide `"), "{f}");
+}
+
 #[cfg(unix)]
 #[test]
 fn fix_refuses_to_write_through_a_link_that_leads_outside_the_campaign_root() {

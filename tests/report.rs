@@ -357,3 +357,50 @@ fn a_modulator_image_is_reported_as_such() {
     );
     assert!((ours - theirs).abs() < 0.005, "{ours} vs {theirs}");
 }
+
+#[test]
+fn a_group_or_logger_finding_is_shown_once_under_its_group_or_budget() {
+    let root = repo();
+    for (case, rule, section, expected) in [
+        (
+            "tests/cases/group-phase/different-filters.rig.yaml",
+            "group-phase",
+            "section.group",
+            2,
+        ),
+        (
+            "tests/cases/storage/one-day.rig.yaml",
+            "storage",
+            "section.budget",
+            1,
+        ),
+    ] {
+        let page = ok_stdout(&root, &["report", case]);
+        let doc = Html::parse_document(&page);
+        let items = |scope: &str| {
+            doc.select(&sel(&format!("{scope} ul.findings li")))
+                .filter(|li| {
+                    li.select(&sel("code"))
+                        .any(|c| c.text().collect::<String>() == rule)
+                })
+                .count()
+        };
+        // `check` reports `expected` findings of the rule: each is listed exactly once,
+        // in its group's (or the logger budget's) section and nowhere else.
+        let (check, _) = common::check_json(&root, &[case]);
+        let reported = check["findings"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .filter(|f| f["rule"] == rule)
+            .count();
+        assert_eq!(reported, expected, "{check}");
+        assert_eq!(
+            items("body"),
+            expected,
+            "{case}: listed {} times",
+            items("body")
+        );
+        assert_eq!(items(section), expected, "{case}");
+    }
+}

@@ -1,12 +1,15 @@
 //! Fix candidates for a channel's failing rate verdicts, confirmed by the analysis.
 //!
 //! When a channel fails `nyquist`, `sampling-margin`, `alias-rejection` or
-//! `disturbance-alias`, [`search`] tries, in this order: another divider on the
-//! channel's own clock (when no other channel samples on it and it is the rig's own
-//! clock), sampling on another clock that already runs at a good rate (an edit of the
-//! channel's `clock:`; never "divide by 1", which would make a clock's name lie about
-//! its rate), another decimation factor, a `digital` stage filter's attenuation, and
-//! the order or cutoff of the channel's own analog filter. Every candidate is put to
+//! `disturbance-alias`, [`search`] tries, in this order: another divider, else another
+//! multiplier, on the channel's own clock (when at most eight other channels of the rig
+//! sample on it, each re-analysed; for a clock of an included catalog the edit is to
+//! the catalog, and `crate::fix` verifies it in every rig that includes the catalog and
+//! says which it reaches), sampling on another clock that already runs at a good rate
+//! (an edit of the channel's `clock:`; never "divide by 1", which would make a clock's
+//! name lie about its rate), another decimation factor, a `digital` stage filter's
+//! attenuation, a digital filter in place of a stage's sinc, and the order or cutoff of
+//! the channel's own analog filter. Every candidate is put to
 //! [`analyse_rates`] — the same verdict code the rules read — and kept only if the
 //! channel then passes those four rules and nothing that passed before fails (module
 //! limits, droop, oversampling). The search is cheap: the rate of a clock or stage
@@ -44,6 +47,8 @@ pub struct Candidate {
 enum Plan {
     /// Divide the channel's own clock's source by this instead.
     Divider(u64),
+    /// Multiply the channel's own clock's source by this instead.
+    Multiplier(u64),
     /// Sample on this clock (index into the rig's clocks).
     Sibling(usize),
     /// Decimate by this at stage k (1-based).
@@ -105,6 +110,9 @@ fn no_new_failures(before: &RateAnalysis, after: &RateAnalysis) -> bool {
             .any(|(e, _)| e.index == d.index)
     })
 }
+
+/// A multiplier is tried up to this many times the written one.
+const MULTIPLIER_REACH: u64 = 8;
 
 /// At most this many other channels on a clock are re-analysed to confirm a divider
 /// change that reaches them too (beyond it, sampling on another clock is proposed).
@@ -243,43 +251,58 @@ fn find_plan(
     let fs0 = rig.clocks[clock].rate?;
     let module_ok = |r: &Exact| module_allows(rig, ch.module, r);
 
-    // 1. Another divider on the channel's own clock, when it is defined in the rig itself
-    //    and few other channels sample on it (they are checked too).
+    // 1. Another divider, else another multiplier, on the channel's own clock, when few
+    //    other channels of the rig sample on it (they are checked too). A clock of an
+    //    included catalog qualifies: the edit is then to the catalog, and verification
+    //    (`crate::fix`) confirms it in every rig that includes the catalog.
     let c = &rig.clocks[clock];
     if let ClockDef::Derived {
-        divide: Some(d),
-        multiply,
-        ..
+        divide, multiply, ..
     } = &c.def.def
         && rig.fanout[clock] <= SHARED_CLOCK_LIMIT + 1
-        && c.def.name.span.file == rig.file
         && let Some(src) = c.parent.and_then(|p| rig.clocks[p].rate)
-        && let Some(base) = src.checked_mul(&Exact::from_integer(
-            multiply.as_ref().map_or(1, |m| i128::from(m.value)),
-        ))
     {
-        let rate = |nd: u64| base.checked_div(&Exact::from_integer(i128::from(nd)));
+        let (d, m) = (
+            divide.as_ref().map_or(1, |d| d.value),
+            multiply.as_ref().map_or(1, |m| m.value),
+        );
         let shared = rig.fanout[clock] > 1;
-        let ok = |nd: u64| {
-            rate(nd).is_some_and(|r| {
-                module_ok(&r)
-                    && passes(rig, index, ch, r, limits, before)
-                    && (!shared
-                        || others_keep_passing(
-                            rig,
-                            index,
-                            clock,
-                            &Exact::new(i128::from(d.value), i128::from(nd)),
-                            limits,
-                            before.enabled,
-                        ))
-            })
+        // The clock at source × nm ÷ nd passes for this channel and keeps every other
+        // channel on it passing.
+        let ok = |nm: u64, nd: u64| {
+            let (nm, nd) = (i128::from(nm), i128::from(nd));
+            src.checked_mul(&Exact::from_integer(nm))
+                .and_then(|r| r.checked_div(&Exact::from_integer(nd)))
+                .is_some_and(|r| {
+                    module_ok(&r)
+                        && passes(rig, index, ch, r, limits, before)
+                        && (!shared
+                            || others_keep_passing(
+                                rig,
+                                index,
+                                clock,
+                                &Exact::new(i128::from(d) * nm, i128::from(m) * nd),
+                                limits,
+                                before.enabled,
+                            ))
+                })
         };
-        // Dividers below 2 would sample on the source itself: that is a sibling.
-        if d.value > 2
-            && let Some(nd) = largest_passing(2, d.value - 1, ok)
+        // Dividers below 2 would sample on the source itself: that is a sibling (a
+        // divide-by-1 would leave the clock's name lying about its rate).
+        if divide.is_some()
+            && d > 2
+            && let Some(nd) = largest_passing(2, d - 1, |nd| ok(m, nd))
         {
-            return Some(Plan::Divider(rounder(&base, nd, &ok)));
+            let base = src.checked_mul(&Exact::from_integer(i128::from(m)))?;
+            return Some(Plan::Divider(rounder(&base, nd, &|nd| ok(m, nd))));
+        }
+        // A written multiplier: the smallest larger one that passes (the rate rises
+        // with it; a module's limits or `oversampling` bound it from above).
+        if multiply.is_some()
+            && let Some(nm) =
+                (m + 1..=m.saturating_mul(MULTIPLIER_REACH).max(m + 16)).find(|&nm| ok(nm, d))
+        {
+            return Some(Plan::Multiplier(nm));
         }
     }
 
@@ -448,9 +471,25 @@ fn find_plan(
                 set(&mut t, None, Some(x));
                 passes(rig, index, &t, fs0, limits, before)
             };
-            let (mut lo, mut hi) = (band * 0.5, cutoff);
-            if ok(lo) {
-                for _ in 0..40 {
+            // A lower cutoff attenuates the fold more but droops the band more: step
+            // down from the current cutoff to the first that passes (if any does before
+            // the droop fails), then bisect between it and the last that failed.
+            let mut hi = cutoff;
+            let mut found = None;
+            let mut x = cutoff;
+            for _ in 0..40 {
+                x *= 0.95;
+                if x < band * 0.5 {
+                    break;
+                }
+                if ok(x) {
+                    found = Some(x);
+                    break;
+                }
+                hi = x;
+            }
+            if let Some(mut lo) = found {
+                for _ in 0..30 {
                     let mid = 0.5 * (lo + hi);
                     if ok(mid) { lo = mid } else { hi = mid }
                 }
@@ -605,38 +644,51 @@ fn edit(span: Span, replacement: impl Into<String>) -> Edit {
 
 fn materialise(rig: &Rig, ch: &RChannel, plan: &Plan) -> Option<Candidate> {
     let (description, help, edits) = match *plan {
-        Plan::Divider(nd) => {
+        Plan::Divider(n) | Plan::Multiplier(n) => {
             let clock = ch.clock?;
             let c = &rig.clocks[clock];
             let ClockDef::Derived {
                 source,
-                divide: Some(d),
+                divide,
                 multiply,
             } = &c.def.def
             else {
                 return None;
             };
             let src = c.parent.and_then(|p| rig.clocks[p].rate)?;
-            let m = multiply.as_ref().map_or(1, |m| i128::from(m.value));
-            let rate =
-                src.checked_mul(&Exact::from_integer(m))? / Exact::from_integer(i128::from(nd));
+            let (d, m) = (
+                divide.as_ref().map_or(1, |d| d.value),
+                multiply.as_ref().map_or(1, |m| m.value),
+            );
+            let (verb, old, (nm, nd)) = match plan {
+                Plan::Divider(_) => ("divide", divide.as_ref()?, (m, n)),
+                _ => ("multiply", multiply.as_ref()?, (n, d)),
+            };
+            let rate = src.checked_mul(&Exact::from_integer(i128::from(nm)))?
+                / Exact::from_integer(i128::from(nd));
             let desc = format!(
-                "divide `{}` by {nd} instead of {} in clock `{}` to sample at {}",
+                "{verb} `{}` by {n} instead of {} in clock `{}` to sample at {}",
                 source.value,
-                d.value,
+                old.value,
                 c.def.name.value,
                 rate_words(&rate)
             );
-            let help = match rig.fanout[clock].saturating_sub(1) {
-                0 => format!("{desc} (no other channel samples on it)"),
-                1 => format!(
-                    "{desc} (1 other channel of this rig samples on it too; nothing it passes fails)"
-                ),
-                n => format!(
-                    "{desc} ({n} other channels of this rig sample on it too; nothing they pass fails)"
-                ),
+            // A clock of an included catalog: verification appends which rigs and
+            // channels the edit reaches (it checks every rig that includes it).
+            let help = if c.def.name.span.file != rig.file {
+                desc.clone()
+            } else {
+                match rig.fanout[clock].saturating_sub(1) {
+                    0 => format!("{desc} (no other channel samples on it)"),
+                    1 => format!(
+                        "{desc} (1 other channel of this rig samples on it too; nothing it passes fails)"
+                    ),
+                    k => format!(
+                        "{desc} ({k} other channels of this rig sample on it too; nothing they pass fails)"
+                    ),
+                }
             };
-            (desc, help, vec![edit(d.span, nd.to_string())])
+            (desc, help, vec![edit(old.span, n.to_string())])
         }
         Plan::Sibling(i) => {
             let k = &rig.clocks[i];

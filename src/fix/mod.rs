@@ -217,8 +217,9 @@ fn verify_where(
         for &i in &groups[g].1 {
             if !v.keep.contains(&i) {
                 out.findings[i].drop_fix();
-            } else if let (Some((channels, rigs)), Some(fix)) =
-                (v.reach.as_ref(), &mut out.findings[i].fix)
+            } else if let Some((channels, rigs)) = v.reach.as_ref()
+                && let f = &mut out.findings[i]
+                && let Some(fix) = &mut f.fix
             {
                 const NAMED: usize = 5;
                 let mut names: Vec<String> =
@@ -226,7 +227,7 @@ fn verify_where(
                 if rigs.len() > NAMED {
                     names.push(format!("{} more", rigs.len() - NAMED));
                 }
-                fix.description = format!(
+                let reached = format!(
                     "{} (in a shared catalog: reaches {channels} channel{} in {} rig{}: {})",
                     fix.description,
                     if *channels == 1 { "" } else { "s" },
@@ -234,6 +235,11 @@ fn verify_where(
                     if rigs.len() == 1 { "" } else { "s" },
                     names.join(", "),
                 );
+                // The help says what the fix does: it names the reach too.
+                if let Some(help) = &mut f.help {
+                    *help = help.replacen(&fix.description, &reached, 1);
+                }
+                fix.description = reached;
             }
         }
     }
@@ -330,6 +336,8 @@ impl<'a> VerifyCtx<'a> {
             max_file_bytes: self.max_file_bytes,
             keep_rigs,
             overlay: Some(Arc::new(overlay)),
+            // A re-lint only needs the findings: no new fix candidates.
+            propose_fixes: false,
             ..Options::default()
         }
     }

@@ -503,8 +503,20 @@ fn rig_sheet(
         .iter()
         .map(|c| c.def.name.value.as_str())
         .collect();
+    // A finding shows once: under its channel, its group or the budget, else here.
+    let group_subjects: Vec<String> = rig
+        .groups
+        .iter()
+        .map(|g| group_subject(&g.name.value))
+        .collect();
+    let shown_elsewhere = |f: &Finding| {
+        f.subject.as_deref().is_some_and(|s| {
+            (rig.logger.is_some() && s == "logger")
+                || group_subjects.iter().any(|g| about_group(g, s))
+        })
+    };
     let other_findings = file_findings(sources, findings, rig.file, |f| {
-        f.channel.as_deref().is_none_or(|c| !names.contains(&c))
+        f.channel.as_deref().is_none_or(|c| !names.contains(&c)) && !shown_elsewhere(f)
     });
     RigSheet {
         file: sources.get(rig.file).display.clone(),
@@ -528,13 +540,11 @@ fn group_sheet(
     sources: &Sources,
     findings: &[Finding],
 ) -> GroupSheet {
-    let subject = format!("group/{}", segment(&g.name.value));
+    let subject = group_subject(&g.name.value);
     let about = |f: &&Finding| {
-        f.subject.as_deref().is_some_and(|s| {
-            s == subject
-                || s.strip_prefix(subject.as_str())
-                    .is_some_and(|r| r.starts_with('/'))
-        })
+        f.subject
+            .as_deref()
+            .is_some_and(|s| about_group(&subject, s))
     };
     let members = rig.group_members.get(gi).cloned().unwrap_or_default();
     let common = members
@@ -587,6 +597,17 @@ fn group_sheet(
             .map(|f| finding_info(sources, f))
             .collect(),
     }
+}
+
+/// The subject key of a group's findings (`group/<name>`).
+fn group_subject(name: &str) -> String {
+    format!("group/{}", segment(name))
+}
+
+/// Whether a finding's subject `s` is about the group whose subject is `group` (the
+/// group itself or one of its pairs).
+fn about_group(group: &str, s: &str) -> bool {
+    s == group || s.strip_prefix(group).is_some_and(|r| r.starts_with('/'))
 }
 
 /// The SVG of a plot without its XML declaration, ready to sit inside HTML.
