@@ -494,8 +494,9 @@ fn a_divider_in_a_shared_catalog_is_verified_in_every_rig_and_applied_only_with_
         .find(|f| f["rule"] == "nyquist")
         .unwrap_or_else(|| panic!("no nyquist finding: {report}"));
     // 40 dB from an 8th-order Butterworth at 12 kHz needs fs − 10 kHz ≥ 12 kHz ×
-    // 10^(40/160) (closed form): fs ≥ 31.34 kHz, so 24.576 MHz / 784 = 31.3469 kHz.
-    let description = "divide `bay-osc` by 784 instead of 2048 in clock `bay-frame` to sample at 31.3469 kHz (in a shared catalog: reaches 3 channels in 2 rigs: `bay-east`, `bay-west`)";
+    // 10^(40/160) (closed form): fs ≥ 31.34 kHz (÷ 784 at most); the round rate just
+    // above, 24.576 MHz / 768 = 32 kHz, is proposed.
+    let description = "divide `bay-osc` by 768 instead of 2048 in clock `bay-frame` to sample at 32 kHz (in a shared catalog: reaches 3 channels in 2 rigs: `bay-east`, `bay-west`)";
     assert_eq!(f["fix"]["description"], description, "{f}");
     assert_eq!(
         f["help"], description,
@@ -507,7 +508,7 @@ fn a_divider_in_a_shared_catalog_is_verified_in_every_rig_and_applied_only_with_
         edits[0]["file"].as_str().unwrap().ends_with("bay.yaml"),
         "{f}"
     );
-    assert_eq!(edits[0]["replacement"], "784");
+    assert_eq!(edits[0]["replacement"], "768");
     // Without --include-catalogs: not applied, and said so with the reach.
     let out = common::run_in(tmp.path(), &["fix", "--color", "never", "."]);
     let stdout = String::from_utf8_lossy(&out.stdout);
@@ -530,7 +531,7 @@ fn a_divider_in_a_shared_catalog_is_verified_in_every_rig_and_applied_only_with_
     );
     assert_eq!(
         fs::read_to_string(&catalog).unwrap(),
-        original.replace("divide: 2048", "divide: 784")
+        original.replace("divide: 2048", "divide: 768")
     );
     let (after, code) = common::check_json(tmp.path(), &["."]);
     assert_eq!(code, 0, "{after}");
@@ -538,7 +539,7 @@ fn a_divider_in_a_shared_catalog_is_verified_in_every_rig_and_applied_only_with_
 
 #[test]
 fn a_catalog_divider_that_would_break_another_rig_is_not_proposed() {
-    // `bay-west`'s card accepts at most 20 kHz: the 31.3469 kHz that fixes `bay-east`
+    // `bay-west`'s card accepts at most 20 kHz: the 32 kHz that fixes `bay-east`
     // would raise a `module-rate` error there, so verification drops the edit and the
     // help falls back to advice that proposes no edit.
     let tmp = tempfile::tempdir().unwrap();
@@ -552,7 +553,7 @@ fn a_catalog_divider_that_would_break_another_rig_is_not_proposed() {
         .unwrap_or_else(|| panic!("no nyquist finding: {report}"));
     assert!(f.get("fix").is_none(), "{f}");
     let help = f["help"].as_str().unwrap_or("");
-    assert!(!help.contains("784") && !help.contains("divide `"), "{f}");
+    assert!(!help.contains("768") && !help.contains("divide `"), "{f}");
 }
 
 #[cfg(unix)]
