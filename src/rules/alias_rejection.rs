@@ -103,6 +103,8 @@ fn check(a: &RigAnalysis, out: &mut Vec<Finding>) {
         let mut f = ALIAS_REJECTION
             .finding(st.span, primary, message)
             .with_channel(name);
+        // A modulator image is the analog filters' to stop: they are the value to change.
+        let analog_first = w.modulator_hz.is_some() && w.resonance.is_none();
         match (&ch.filters_span, w.stage) {
             (Some((span, _)), 0) if !ch.filters.is_empty() => f.secondary.push(Label::new(
                 *span,
@@ -142,6 +144,11 @@ fn check(a: &RigAnalysis, out: &mut Vec<Finding>) {
                         .push(Label::new(stage.span, "no filter: plain down-sampling")),
                 }
             }
+        }
+        if analog_first && ch.filters_span.is_some() && !f.secondary.is_empty() {
+            let filters = f.secondary.remove(0);
+            let rate = std::mem::replace(&mut f.primary, filters);
+            f.secondary.insert(0, rate);
         }
         if let Some((fr, _)) = w.resonance
             && let Some(res) = ch.sensor.and_then(|s| rig.sensors[s].resonance.as_ref())
