@@ -415,17 +415,19 @@ impl<'a> Chain<'a> {
         self.phase_deg(f) - 360.0 * f * self.digital_delay_s()
     }
 
-    /// [`Chain::total_phase_deg`] as a function of `f`, with the chain's filters and
-    /// digital delay looked up once: the same value at every `f`, for callers that
-    /// evaluate it at hundreds of frequencies (a group's phase comparison).
-    pub fn total_phase_fn(&self) -> impl Fn(f64) -> f64 + use<> {
-        let analogs: Vec<Analog> = self
-            .filters_upto(self.changes.len() - 1, None)
-            .into_iter()
-            .filter_map(|(flt, _, _)| analog(&flt.response))
-            .collect();
-        let delay = self.digital_delay_s();
-        move |f| analogs.iter().map(|a| a.phase_deg(f)).sum::<f64>() - 360.0 * f * delay
+    /// [`Chain::total_phase_deg`] as a function of `f`, with the chain's filters, their
+    /// poles and the digital delay worked out once: the same value at every `f`, for
+    /// callers that evaluate it at hundreds of frequencies (a group's phase comparison).
+    pub fn total_phase_fn(&self) -> TotalPhase {
+        TotalPhase {
+            curves: self
+                .filters_upto(self.changes.len() - 1, None)
+                .into_iter()
+                .filter_map(|(flt, _, _)| analog(&flt.response))
+                .map(|a| a.phase_curve())
+                .collect(),
+            delay_s: self.digital_delay_s(),
+        }
     }
     /// The worst image at rate change `upto` for a band of `band` Hz (docs/model.md
     /// §3): the frequency of the least attenuated point of every image band
@@ -629,6 +631,33 @@ pub struct StageDelay {
     pub samples: Option<(f64, f64)>,
 }
 
+/// A chain's total phase, ready to evaluate: see [`Chain::total_phase_fn`]. Two equal
+/// values describe the same curve.
+#[derive(Clone, Debug, PartialEq)]
+pub struct TotalPhase {
+    curves: Vec<crate::signal::analog::PhaseCurve>,
+    delay_s: f64,
+}
+
+impl TotalPhase {
+    /// Degrees at `f` Hz, as [`Chain::total_phase_deg`].
+    pub fn deg(&self, f: f64) -> f64 {
+        self.curves.iter().map(|c| c.deg(f)).sum::<f64>() - 360.0 * f * self.delay_s
+    }
+}
+
+/// [`max_phase_difference`] of two chains' phases; two equal curves differ by zero
+/// everywhere, which the search would find at its first grid point, so it is skipped.
+pub fn max_total_phase_difference(a: &TotalPhase, b: &TotalPhase, top: f64) -> (f64, f64) {
+    if a == b {
+        return (top / PHASE_GRID as f64, 0.0);
+    }
+    max_phase_difference(|f| a.deg(f), |f| b.deg(f), top)
+}
+
+/// Grid points of [`max_phase_difference`]'s first pass.
+const PHASE_GRID: usize = 512;
+
 /// Where two phase curves differ most over `(0, top]`: `(frequency, a − b)` with the
 /// largest |a − b|, ties to the lowest frequency. The curves are smooth (sums of pole
 /// angles and straight lines), so a grid of 512 points followed by a golden-section
@@ -639,7 +668,7 @@ pub fn max_phase_difference(
     b: impl Fn(f64) -> f64,
     top: f64,
 ) -> (f64, f64) {
-    const N: usize = 512;
+    const N: usize = PHASE_GRID;
     let d = |f: f64| a(f) - b(f);
     let step = top / N as f64;
     let mut best = (step, d(step));

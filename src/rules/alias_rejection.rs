@@ -173,6 +173,14 @@ fn check(a: &RigAnalysis, out: &mut Vec<Finding>) {
         };
         let fallback = match w.modulator_hz {
             Some(_) => modulator_help(r, &w, rig.thresholds.passband_tolerance),
+            // At a decimation stage the filter that can help is that stage's own (or any
+            // before it); at the ADC, the anti-alias filter.
+            None if w.stage > 0 => format!(
+                "attenuate {} by another {} before this rate change (a decimation filter at stage {}, or a steeper one before it), or decimate less",
+                format_hz(w.fold_from_hz),
+                format_db(required - w.attenuation_db),
+                w.stage
+            ),
             None => format!(
                 "attenuate {} by another {} before this rate change (a steeper or lower anti-alias filter), or sample faster",
                 format_hz(w.fold_from_hz),

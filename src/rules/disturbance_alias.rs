@@ -117,8 +117,16 @@ fn check(a: &RigAnalysis, out: &mut Vec<Finding>) {
             ));
         }
         f.secondary.extend(rate_labels(rig, ch, step.stage));
+        let filter = if step.stage > 0 {
+            format!(
+                "a decimation filter at stage {}, or a steeper one before it",
+                step.stage
+            )
+        } else {
+            "a steeper anti-alias filter".to_string()
+        };
         let fallback = format!(
-            "attenuate the tone by another {} before this rate change (a steeper anti-alias filter), or choose a rate at which {} does not fold into the band",
+            "attenuate the tone by another {} before this rate change ({filter}), or choose a rate at which {} does not fold into the band",
             format_db(required - at).replace(".00", ""),
             format_hz(fd)
         );

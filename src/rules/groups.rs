@@ -279,17 +279,15 @@ pub struct PairComparison {
 
 /// Compare two chains over `(0, common]` (docs/model.md, "Groups").
 pub fn compare_pair(a: &Chain, b: &Chain, common: f64) -> PairComparison {
+    let (pa, pb) = (a.total_phase_fn(), b.total_phase_fn());
     let (frequency_hz, phase_difference_deg) =
-        crate::resolve::chain::max_phase_difference(a.total_phase_fn(), b.total_phase_fn(), common);
+        crate::resolve::chain::max_total_phase_difference(&pa, &pb, common);
     PairComparison {
         phase_difference_deg,
         frequency_hz,
         delay_difference_s: a.latency_s() - b.latency_s(),
         digital_difference_s: a.digital_delay_s() - b.digital_delay_s(),
-        phases_deg: (
-            a.total_phase_deg(frequency_hz),
-            b.total_phase_deg(frequency_hz),
-        ),
+        phases_deg: (pa.deg(frequency_hz), pb.deg(frequency_hz)),
     }
 }
 

@@ -89,6 +89,22 @@ impl Analog {
         radians.to_degrees()
     }
 
+    /// [`Analog::phase_deg`] with the poles and their angles at DC worked out once, for
+    /// evaluating at many frequencies; [`PhaseCurve::deg`] gives the same numbers, bit
+    /// for bit.
+    ///
+    /// # Panics
+    /// If the parameters are not [valid](Self::is_valid).
+    pub fn phase_curve(&self) -> PhaseCurve {
+        self.assert_valid();
+        PhaseCurve {
+            cutoff_hz: self.cutoff_hz,
+            poles: normalized_poles(self.kind, self.order)
+                .map(|(sigma, beta)| (sigma, beta, (-beta).atan2(-sigma)))
+                .collect(),
+        }
+    }
+
     /// Group delay in seconds at `f_hz`, by the closed form over the poles (the filters
     /// here have no finite zeros): with ω = 2πf and each pole p in rad/s,
     /// τ(ω) = Σ −Re(p) / (Re(p)² + (ω − Im(p))²). No finite difference is taken.
@@ -123,6 +139,27 @@ impl Analog {
             self.is_valid(),
             "invalid analog filter parameters: {self:?}"
         );
+    }
+}
+
+/// An analog filter's phase with its poles worked out: see [`Analog::phase_curve`].
+#[derive(Clone, Debug, PartialEq)]
+pub struct PhaseCurve {
+    cutoff_hz: f64,
+    /// Each pole `(σ, β)` with the angle of `−p` at DC.
+    poles: Vec<(f64, f64, f64)>,
+}
+
+impl PhaseCurve {
+    /// Phase in degrees at `f_hz`, as [`Analog::phase_deg`].
+    pub fn deg(&self, f_hz: f64) -> f64 {
+        let x = f_hz / self.cutoff_hz;
+        let radians: f64 = self
+            .poles
+            .iter()
+            .map(|&(sigma, beta, at_dc)| at_dc - (x - beta).atan2(-sigma))
+            .sum();
+        radians.to_degrees()
     }
 }
 
@@ -196,6 +233,27 @@ fn normalized_poles(kind: AnalogKind, order: u32) -> impl Iterator<Item = (f64, 
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn the_phase_curve_gives_the_same_numbers_as_phase_deg() {
+        for order in 1..=MAX_ORDER {
+            for kind in [
+                AnalogKind::Butterworth,
+                AnalogKind::Chebyshev { ripple_db: 0.5 },
+                AnalogKind::Bessel,
+            ] {
+                let a = Analog::new(kind, order, 1234.5);
+                let c = a.phase_curve();
+                for f in [0.0, 1.0, 600.0, 1234.5, 5000.0, 1e6] {
+                    assert_eq!(
+                        c.deg(f).to_bits(),
+                        a.phase_deg(f).to_bits(),
+                        "{kind:?} {order} {f}"
+                    );
+                }
+            }
+        }
+    }
 
     #[test]
     fn poles_are_stable_and_one_per_order() {
