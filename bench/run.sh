@@ -14,8 +14,8 @@
 #   shape-clean          the twin where each channel takes the slowest clock >= 12 x band
 #
 # Environment: REPEATS (default 3; the median wall time is reported, the largest peak
-# memory), REPEATS_LARGE for campaigns over 100 MB (default 1; PyYAML and serde-saphyr
-# are skipped there unless FULL=1), SIZES for bench/gen.py (default 1k,10k,100k,1M),
+# memory), REPEATS_LARGE for campaigns over 100 MB (default 1; only lint, tree and
+# libyaml run there unless FULL=1), SIZES for bench/gen.py (default 1k,10k,100k,1M),
 # LATENCY_RUNS (default 60).
 #
 # Tools, each on the same files:
@@ -109,7 +109,7 @@ for s in "${sets[@]}"; do
     tools=(lint lint-1t human tree saphyr events libyaml pyyaml)
     if [ "$bytes" -gt 100000000 ]; then
         reps=${REPEATS_LARGE:-1}
-        [ "${FULL:-0}" = 1 ] || tools=(lint lint-1t tree events libyaml)
+        [ "${FULL:-0}" = 1 ] || tools=(lint tree libyaml)
     fi
     # The same files as shape-heavy: only the lint differs.
     [ "$s" = shape-off ] && tools=(lint lint-1t)

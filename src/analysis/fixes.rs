@@ -10,14 +10,14 @@
 //! name lie about its rate), another decimation factor, a `digital` stage filter's
 //! attenuation, a digital filter in place of a stage's sinc, and the order or cutoff of
 //! the channel's own analog filter. Every candidate is put to
-//! [`analyse_rates`] — the same verdict code the rules read — and kept only if the
+//! [`analyse_rates`](super::analyse_rates) — the same verdict code the rules read — and kept only if the
 //! channel then passes those four rules and nothing that passed before fails (module
 //! limits, droop, oversampling). The search is cheap: the rate of a clock or stage
 //! setting is found by binary search (the verdicts improve with the rate), every probe
 //! is one analysis, and results are cached per chain shape, band and requirements so
 //! identical channels of a rig share one search.
 
-use super::{ChannelAnalysis, Context, Limits, RateAnalysis, analyse_rates, module_allows};
+use super::{ChannelAnalysis, Context, Limits, RateAnalysis, analyse_verdicts, module_allows};
 use crate::finding::Edit;
 use crate::model::quantity::{Exact, to_f64};
 use crate::model::{ClockDef, Response, ordinal};
@@ -80,7 +80,7 @@ fn passes(
     limits: &Limits,
     before: &RateAnalysis,
 ) -> bool {
-    let Ok(after) = analyse_rates(rig, index, ch, fs0, limits, before.enabled) else {
+    let Ok(after) = analyse_verdicts(rig, index, ch, fs0, limits, before.enabled) else {
         return false;
     };
     after.rates_pass() && no_new_failures(before, &after)
@@ -143,8 +143,8 @@ fn others_keep_passing(
                 return module_allows(rig, ch.module, &new) || !module_allows(rig, ch.module, &fs0);
             }
             let (Ok(b), Ok(a)) = (
-                analyse_rates(rig, o, ch, fs0, limits, enabled),
-                analyse_rates(rig, o, ch, new, limits, enabled),
+                analyse_verdicts(rig, o, ch, fs0, limits, enabled),
+                analyse_verdicts(rig, o, ch, new, limits, enabled),
             ) else {
                 return true;
             };

@@ -948,6 +948,34 @@ pub fn analyse_rates(
     limits: &Limits,
     enabled: Enabled,
 ) -> Result<RateAnalysis, NotAnalysed> {
+    rates_with(rig, index, ch, fs0, limits, enabled, true)
+}
+
+/// [`analyse_rates`] for the fix search, which asks only whether each verdict passes:
+/// the verdicts are the same, but what only explains them is left out (the
+/// contributions of each filter and their names, the filters' descriptions, the largest
+/// contributor to the droop, and the phase at the band edge, which is NaN), so a probe
+/// builds no text.
+pub(crate) fn analyse_verdicts(
+    rig: &Rig,
+    index: usize,
+    ch: &RChannel,
+    fs0: Exact,
+    limits: &Limits,
+    enabled: Enabled,
+) -> Result<RateAnalysis, NotAnalysed> {
+    rates_with(rig, index, ch, fs0, limits, enabled, false)
+}
+
+fn rates_with(
+    rig: &Rig,
+    index: usize,
+    ch: &RChannel,
+    fs0: Exact,
+    limits: &Limits,
+    enabled: Enabled,
+    detail: bool,
+) -> Result<RateAnalysis, NotAnalysed> {
     let Some(band_def) = ch.band.as_ref() else {
         return Err(NotAnalysed::NoBand);
     };
@@ -965,8 +993,15 @@ pub fn analyse_rates(
         .sensor
         .and_then(|s| rig.sensors[s].resonance.as_ref())
         .map(|r| (r.frequency.value, r.gain.value));
-    let names = chain.filter_places();
+    let names = if detail {
+        chain.filter_places()
+    } else {
+        Vec::new()
+    };
     let contributions = |f: f64, k: usize| -> Vec<(String, f64)> {
+        if !detail {
+            return Vec::new();
+        }
         chain
             .contributions(f, k)
             .into_iter()
@@ -1030,7 +1065,11 @@ pub fn analyse_rates(
             factor: rc.factor,
             input_rate_hz: rc.fs_in.as_ref().map(to_f64),
             rate: rc.fs,
-            filter: rc.filter.as_ref().map(|f| f.response.describe()),
+            filter: rc
+                .filter
+                .as_ref()
+                .filter(|_| detail)
+                .map(|f| f.response.describe()),
             ratio_exact: rc.fs.checked_div(&band),
             ratio: fs / band_hz,
             nyquist_ok,
@@ -1126,10 +1165,14 @@ pub fn analyse_rates(
         PassbandInfo {
             attenuation_db: droop,
             contributions: contributions(band_hz, last),
-            largest: chain
-                .contributions(band_hz, last)
-                .into_iter()
-                .max_by(|x, y| x.db.total_cmp(&y.db)),
+            largest: if detail {
+                chain
+                    .contributions(band_hz, last)
+                    .into_iter()
+                    .max_by(|x, y| x.db.total_cmp(&y.db))
+            } else {
+                None
+            },
             tolerance_db: tolerance,
             pass: droop <= tolerance + 1e-9,
         }
@@ -1155,7 +1198,11 @@ pub fn analyse_rates(
         stages,
         disturbances,
         passband,
-        phase_at_band_deg: chain.phase_deg(band_hz),
+        phase_at_band_deg: if detail {
+            chain.phase_deg(band_hz)
+        } else {
+            f64::NAN
+        },
         delays: DelayInfo::of(&chain, band_hz),
         final_rate,
         final_rate_hz,
