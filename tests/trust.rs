@@ -642,3 +642,180 @@ fn control_characters_in_values_comments_and_file_names_are_escaped_in_every_for
         "{human}"
     );
 }
+
+/// A rig including a missing catalog, with `n` channels on a clock only that catalog
+/// could define.
+fn rig_with_missing_catalog(n: usize) -> String {
+    let mut text =
+        String::from("format: 1\nrig: left-out\ninclude:\n  - missing-hall.yaml\nchannels:\n");
+    for i in 0..n {
+        text.push_str(&format!(
+            "  - {{ name: ch-{i:02}, clock: hall-frame, band: 1 kHz }}\n"
+        ));
+    }
+    text
+}
+
+#[test]
+fn channels_named_only_in_a_failed_include_message_are_not_silently_skipped() {
+    // Regression: `silently_skipped` did not read the failed include's message, so the
+    // channels it names (the first ten, then a count) looked silently dropped.
+    for n in [1, 10, 12] {
+        let (_, findings, rig) = foldcheck::campaign::lint_text_keeping_rig(
+            "/nonexistent-foldcheck-trust/left-out.rig.yaml",
+            &rig_with_missing_catalog(n),
+        );
+        let rig = rig.expect("the rig reads");
+        assert_eq!(findings.len(), 1, "{findings:#?}");
+        assert_eq!(findings[0].rule, "include");
+        assert_eq!(
+            foldcheck::campaign::silently_skipped(&rig, &findings),
+            Vec::<String>::new(),
+            "{n} channels: {}",
+            findings[0].message
+        );
+        // Without that finding every channel is silently skipped: the check can fail.
+        assert_eq!(foldcheck::campaign::silently_skipped(&rig, &[]).len(), n);
+        // A finding that counts one channel fewer than it leaves out leaves one skipped.
+        let mut short = findings.clone();
+        let total = short[0].values["unchecked_channels"].as_u64().unwrap();
+        assert_eq!(total, n as u64);
+        short[0]
+            .values
+            .insert("unchecked_channels".into(), (total - 1).into());
+        if n <= 10 {
+            // All listed by name: the count does not matter.
+            assert!(foldcheck::campaign::silently_skipped(&rig, &short).is_empty());
+        } else {
+            assert_eq!(
+                foldcheck::campaign::silently_skipped(&rig, &short),
+                ["ch-11"]
+            );
+        }
+    }
+}
+
+// ---- positions (line:col, columns in characters, a BOM is not a column)
+
+#[test]
+fn block_scalar_span_ends_at_its_last_character_not_in_the_next_node() {
+    // Regression: the span ran over the final line break to 4:1, the start of `channels`.
+    let f = lint("format: 1\nrig: >\n  Not A Name\nchannels: []\n");
+    assert_eq!(
+        f,
+        [
+            "error schema 3:3-3:13 `rig: Not A Name\\n` is not a valid name: names use lowercase letters, digits, `.`, `_` and `-`, starting with a letter or digit"
+        ]
+    );
+    // Kept blank lines and a literal block too: the span stops at `Name`.
+    let f = lint("format: 1\nrig: |+\n  Not A Name\n\n\nchannels: []\n");
+    assert_eq!(f.len(), 1, "{f:#?}");
+    assert!(f[0].starts_with("error schema 3:3-3:13 "), "{f:#?}");
+}
+
+#[test]
+fn tab_in_block_indentation_is_reported_at_the_tab() {
+    // Regression: the parser's position was the node before the tab (4:11, the end of
+    // `osc`) or just after it (4:2).
+    assert_eq!(
+        lint("format: 1\nrig: tabs\nclocks:\n  - name: osc\n\t  frequency: 3 kHz\n"),
+        ["error yaml-syntax 5:1-5:1 while scanning a plain scalar, found a tab"]
+    );
+    assert_eq!(
+        lint(
+            "format: 1\nrig: tabs\nclocks:\n  - name: osc\n    frequency: 3 kHz\n  \t  divide: 2\n"
+        ),
+        ["error yaml-syntax 6:3-6:3 while scanning a plain scalar, found a tab"]
+    );
+    assert_eq!(
+        lint("format: 1\nrig: tabs\nclocks:\n\t- name: osc\n"),
+        ["error yaml-syntax 4:1-4:1 tabs disallowed within this context (block indentation)"]
+    );
+}
+
+#[test]
+fn parser_error_on_a_byte_order_mark_line_is_not_one_column_early() {
+    // The BOM (U+FEFF) is not a column: `format: 1: 2` has its second `:` at column 10
+    // with or without it.
+    for bom in ["", "\u{feff}"] {
+        assert_eq!(
+            lint(&format!("{bom}format: 1: 2\nrig: bom\n")),
+            ["error yaml-syntax 1:10-1:10 mapping values are not allowed in this context"],
+            "BOM: {}",
+            !bom.is_empty()
+        );
+        assert_eq!(
+            lint(&format!("{bom}rig: \"bom\n")),
+            ["error yaml-syntax 1:6-1:6 unclosed quote"],
+            "BOM: {}",
+            !bom.is_empty()
+        );
+    }
+}
+
+// ---- a converter filter's edges against a modulator given by `rate`
+
+/// A rig with a delta-sigma module whose modulator is described by `modulator` and
+/// whose converter filter stops at `stopband`, sampled at 51.2 kHz.
+fn modulator_rig(modulator: &str, stopband: &str) -> String {
+    format!(
+        "format: 1\nrig: dsm\nclocks:\n  - {{ name: frame, frequency: 51.2 kHz }}\nmodules:\n  - name: dsa\n    adc-bits: 24\n    modulator:\n      {modulator}\n      filter: {{ response: digital, passband-edge: 0.45, stopband-edge: {stopband}, attenuation: 110 dB }}\nchannels:\n  - {{ name: ch, clock: frame, module: dsa, band: 20 kHz, filters: [] }}\n"
+    )
+}
+
+#[test]
+fn converter_stopband_beyond_half_the_modulator_rate_is_a_schema_finding_with_a_rate() {
+    // The filter runs at the modulator rate and its edges are fractions of the ADC
+    // rate: with the modulator at 51.2 kHz (1 × the ADC rate) a stopband edge at or
+    // above 0.5 cannot be, nor one at 1 with the modulator at 102.4 kHz (2 ×). With an
+    // `oversampling-ratio` the reader checks it; with a `rate` the ratio is known only
+    // once the channel's clock is, and it was accepted silently.
+    let by_ratio = lint(&modulator_rig("oversampling-ratio: 1", "0.55"));
+    assert_eq!(
+        by_ratio[0],
+        "error schema 10:72-10:76 the stopband edge 0.55 of a `digital` filter is not below half its input rate (0.5 in units of its output rate)"
+    );
+    let by_rate = lint(&modulator_rig("rate: 51.2 kHz", "0.55"));
+    assert_eq!(
+        by_rate,
+        [
+            "error schema 10:72-10:76 the stopband edge 0.55 of module `dsa`'s converter filter is not below half its input rate (0.5 in units of the 51.2 kHz ADC rate of channel `ch`, with the modulator at 51.2 kHz)"
+        ]
+    );
+    // With a `rate` the channel is not analysed (the finding is on its module, so it
+    // is named, not dropped); with a ratio the reader drops the filter and the channel
+    // is analysed without it (the alias-rejection error after the schema finding).
+    assert_eq!(by_ratio.len(), 2);
+    assert!(
+        by_ratio[1].starts_with("error alias-rejection "),
+        "{by_ratio:#?}"
+    );
+    assert_eq!(
+        lint(&modulator_rig("rate: 102.4 kHz", "1")),
+        [
+            "error schema 10:72-10:73 the stopband edge 1 of module `dsa`'s converter filter is not below half its input rate (1 in units of the 51.2 kHz ADC rate of channel `ch`, with the modulator at 102.4 kHz)"
+        ]
+    );
+    // Just below half is taken, and the channel is analysed exactly as with the ratio.
+    let below = lint(&modulator_rig("rate: 102.4 kHz", "0.99"));
+    assert!(!below.iter().any(|f| f.contains(" schema ")), "{below:#?}");
+    assert_eq!(below, lint(&modulator_rig("oversampling-ratio: 2", "0.99")));
+}
+
+#[test]
+fn continuation_lines_at_the_parent_indentation_are_a_yaml_syntax_finding() {
+    // Regression: the event parser accepted these (YAML test suite 9C9N, QB6E, DK95-1):
+    // a flow list or quoted value inside a block mapping, continued at column 1 or after
+    // a tab. YAML 1.2 wants the continuation indented by more than the mapping.
+    let expected = |line: usize, col: usize| {
+        vec![format!(
+            "error yaml-syntax {line}:{col}-{line}:{col} this continuation line of a multi-line value is indented by 0 spaces; it must be indented by more than the 0 of the mapping or list holding the value (a tab is not indentation)"
+        )]
+    };
+    assert_eq!(lint("format: 1\nrig: [a,\nb]\n"), expected(3, 1));
+    assert_eq!(lint("format: 1\ndescription: \"a\nb\"\n"), expected(3, 1));
+    assert_eq!(lint("format: 1\ndescription: \"a\n\tb\"\n"), expected(3, 1));
+    // Indented by one space more than the mapping, they are read.
+    let f = lint("format: 1\nrig: probe\ndescription: \"a\n b\"\nx-list: [a,\n b]\n");
+    assert!(!f.iter().any(|f| f.contains("yaml-syntax")), "{f:#?}");
+}

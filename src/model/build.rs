@@ -527,6 +527,7 @@ impl<'a> Builder<'a> {
             order: order.as_ref().map(|o| o.span),
             cutoff: cutoff.as_ref().map(|o| o.span),
             attenuation: attenuation.as_ref().map(|o| o.span),
+            stopband: stopband.as_ref().map(|o| o.span),
         };
         let v = |o: Option<Sp<u32>>| o.map(|o| o.value);
         let f = |o: Option<Sp<f64>>| o.map(|o| o.value);

@@ -322,6 +322,8 @@ pub struct FilterValues {
     pub cutoff: Option<Span>,
     /// `attenuation` (of a `digital` filter).
     pub attenuation: Option<Span>,
+    /// `stopband-edge` (of a `digital` filter).
+    pub stopband: Option<Span>,
 }
 
 /// The filter responses of docs/model.md, "Filter responses".

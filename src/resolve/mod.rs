@@ -493,6 +493,10 @@ pub fn resolve_incomplete(
     // (module, ADC rate) pairs whose modulator rate is no multiple of the ADC rate,
     // with the first channel concerned and how many more.
     let mut modulator_misfits: Vec<((usize, Exact), String, usize)> = Vec::new();
+    // (module, ADC rate) pairs whose converter filter's stopband edge is not below half
+    // the modulator rate given by `rate` (with an `oversampling-ratio` the builder
+    // checks it): the first channel and how many more.
+    let mut modulator_edges: Vec<((usize, Exact), String, usize)> = Vec::new();
     for c in &rig_doc.channels {
         if !channel_names.add(&c.name, channels.len(), &mut out) {
             continue;
@@ -605,6 +609,25 @@ st.factor.span, "rate out of range",
                 None => modulator_misfits.push((key, c.name.value.clone(), 0)),
             }
         }
+        // Its converter filter's edges are fractions of the ADC rate and the filter runs
+        // at the modulator rate: the stopband edge must lie below half of it.
+        if modulator_ok
+            && let (Some(mi), Some(adc)) = (module, clock.and_then(|k| clocks[k].rate))
+            && let Some(md) = &modules[mi].modulator
+            && let ModulatorRate::Rate(r) = &md.rate
+            && let Some(Filter {
+                response: Response::Digital { stopband_edge, .. },
+                ..
+            }) = &md.filter
+            && *stopband_edge * 2.0 >= to_f64(&(r.value / adc))
+        {
+            modulator_ok = false;
+            let key = (mi, adc);
+            match modulator_edges.iter_mut().find(|(k, _, _)| *k == key) {
+                Some((_, _, others)) => *others += 1,
+                None => modulator_edges.push((key, c.name.value.clone(), 0)),
+            }
+        }
         channels.push(RChannel {
             def: c.clone(),
             clock,
@@ -645,6 +668,38 @@ md.rate_span(), "not a multiple of the ADC rate",
                 ratio.round().max(1.0),
                 format_hz(ratio.round().max(1.0) * to_f64(&adc))
             )),
+        );
+    }
+
+    for ((mi, adc), first, others) in modulator_edges {
+        let md = modules[mi]
+            .modulator
+            .as_ref()
+            .expect("only modules with a modulator are listed");
+        let Some(filter) = &md.filter else { continue };
+        let Response::Digital { stopband_edge, .. } = filter.response else {
+            continue;
+        };
+        let ratio = md.rate_for(adc).map_or(f64::NAN, |r| to_f64(&(r / adc)));
+        let users = match others {
+            0 => format!("channel `{first}`"),
+            n => format!("channel `{first}` and {n} more"),
+        };
+        out.push(
+            declared::SCHEMA
+                .finding(
+                    filter.values.stopband.unwrap_or(filter.span),
+                    "not below half the modulator rate",
+                    format!(
+                        "the stopband edge {stopband_edge} of module `{}`'s converter filter is not below half its input rate ({} in units of the {} ADC rate of {users}, with the modulator at {})",
+                        modules[mi].name.value,
+                        ratio / 2.0,
+                        format_hz(to_f64(&adc)),
+                        format_hz(ratio * to_f64(&adc)),
+                    ),
+                )
+                .with_label(md.rate_span(), "modulator rate")
+                .with_help("the converter's filter runs at the modulator rate and its edges are fractions of the ADC output rate: its stopband must start below half the oversampling ratio"),
         );
     }
 

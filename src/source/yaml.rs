@@ -148,7 +148,70 @@ pub fn parse(file: FileId, text: &str, lines: &LineIndex) -> Result<Node, Syntax
         Some(node) => node,
         None => parse_with_serde(file, text, lines)?,
     };
+    continuation_indent(text, &node)?;
     Ok(empty_at_start(node))
+}
+
+/// YAML 1.2 (§6.1, §7.3, §7.4): the continuation lines of a multi-line quoted scalar or
+/// flow collection inside a block collection must be indented more than that block
+/// collection, by spaces (a tab is not indentation). The event parser under both
+/// readers accepts them at or below its column (the YAML test suite's cases 9C9N, QB6E,
+/// DK95-1), so they are refused here.
+fn continuation_indent(text: &str, node: &Node) -> Result<(), SyntaxError> {
+    let bytes = text.as_bytes();
+    let block = |n: &Node| {
+        matches!(n.kind, NodeKind::Map(_) | NodeKind::Seq(_))
+            && !matches!(bytes.get(n.span.start as usize), Some(b'[' | b'{'))
+    };
+    if !block(node) {
+        return Ok(());
+    }
+    // The block collection's column, in bytes after a byte order mark.
+    let start = node.span.start as usize;
+    let line_start = text[..start].rfind(['\n', '\r']).map_or(0, |i| i + 1);
+    let bom = if line_start == 0 && text.starts_with('\u{feff}') {
+        3
+    } else {
+        0
+    };
+    let indent = start - line_start - bom;
+    let children: Vec<&Node> = match &node.kind {
+        NodeKind::Map(entries) => entries.iter().flat_map(|(k, v)| [k, v]).collect(),
+        NodeKind::Seq(items) => items.iter().collect(),
+        _ => Vec::new(),
+    };
+    for child in children {
+        if block(child) {
+            continuation_indent(text, child)?;
+            continue;
+        }
+        let (s, e) = (child.span.start as usize, child.span.end as usize);
+        if !matches!(bytes.get(s), Some(b'"' | b'\'' | b'[' | b'{')) {
+            continue;
+        }
+        let mut i = s;
+        while let Some(nl) = text[i..e].find(['\n', '\r']).map(|k| i + k) {
+            i = nl + 1;
+            let line = &text[i..];
+            let spaces = line.len() - line.trim_start_matches(' ').len();
+            let rest = &line[spaces..];
+            // Blank lines (only spaces and tabs) are not continuation lines.
+            let blank = rest
+                .trim_start_matches([' ', '\t'])
+                .starts_with(['\n', '\r'])
+                || rest.trim_start_matches([' ', '\t']).is_empty();
+            if i < e && spaces <= indent && !blank {
+                return Err(SyntaxError {
+                    message: format!(
+                        "this continuation line of a multi-line value is indented by {spaces} space{}; it must be indented by more than the {indent} of the mapping or list holding the value (a tab is not indentation)",
+                        if spaces == 1 { "" } else { "s" }
+                    ),
+                    span: Span::point(child.span.file, i + spaces),
+                });
+            }
+        }
+    }
+    Ok(())
 }
 
 /// An empty document points at the start of the file.
@@ -201,7 +264,7 @@ pub fn parse_with_serde(file: FileId, text: &str, lines: &LineIndex) -> Result<N
 /// `None`, and the document is read again by [`parse_with_serde`], so that budgets, alias
 /// handling and messages stay serde-saphyr's. `tests` check that both paths agree.
 mod fast {
-    use super::{MAX_DEPTH, MAX_NODES, Node, NodeKind, close_flow};
+    use super::{MAX_DEPTH, MAX_NODES, Node, NodeKind, close_flow, scalar_end};
     use crate::source::{FileId, Span};
     use serde_saphyr::granit_parser::{Event, Parser, ScalarStyle};
     use std::collections::HashSet;
@@ -362,7 +425,7 @@ mod fast {
                         _ => NodeKind::Str(value.into_owned()),
                     };
                     let node = Node {
-                        span: span_of(file, &span)?,
+                        span: scalar_end(text, span_of(file, &span)?),
                         kind,
                     };
                     if !place(&mut stack, node, &mut root, &mut keys) {
@@ -445,10 +508,47 @@ fn syntax_error(
                 .unwrap_or_else(|| lines.offset(text, loc.line() as usize, loc.column() as usize))
         })
         .unwrap_or(0);
+    let message = describe(e);
+    let offset = if message.contains("tab") {
+        indentation_tab(text, offset).unwrap_or(offset)
+    } else {
+        offset
+    };
     SyntaxError {
-        message: describe(e),
+        message,
         span: Span::point(file, offset),
     }
+}
+
+/// The offset of the first tab in a line's indentation, on the line holding `offset` or
+/// the next one. The parser reports a tab in block indentation at the node it was
+/// reading (the end of the previous line, or just after the tab); the tab is where the
+/// user has to look.
+fn indentation_tab(text: &str, offset: usize) -> Option<usize> {
+    let line_start = text[..offset.min(text.len())]
+        .rfind(['\n', '\r'])
+        .map_or(0, |i| i + 1);
+    let mut start = line_start;
+    for _ in 0..2 {
+        let rest = &text[start..];
+        let line_len = rest.find(['\n', '\r']).unwrap_or(rest.len());
+        let line = &rest[..line_len];
+        let indent = line.len() - line.trim_start_matches([' ', '\t']).len();
+        if let Some(i) = line[..indent].find('\t') {
+            return Some(start + i);
+        }
+        if line_len == rest.len() {
+            return None;
+        }
+        start += line_len;
+        // \r\n is one line break.
+        start += if text[start..].starts_with("\r\n") {
+            2
+        } else {
+            1
+        };
+    }
+    None
 }
 
 /// The parser's message without positions (the report renders those from the span):
@@ -564,6 +664,9 @@ fn convert(file: FileId, text: &str, lines: &LineIndex, raw: Spanned<Raw>) -> No
         .unwrap_or_else(|| lines.offset(text, loc.line() as usize, loc.column() as usize));
     let len = span.byte_len().map(|l| l as usize).unwrap_or(0);
     let mut span = Span::new(file, start, (start + len).min(text.len()));
+    if !matches!(raw.value, Raw::Seq(_) | Raw::Map(_)) {
+        span = scalar_end(text, span);
+    }
     let kind = match raw.value {
         Raw::Null => NodeKind::Null,
         Raw::Bool(b) => NodeKind::Bool(b),
@@ -599,6 +702,22 @@ fn convert(file: FileId, text: &str, lines: &LineIndex, raw: Spanned<Raw>) -> No
         }
     };
     Node { span, kind }
+}
+
+/// A scalar's span ends at its last character: the parser ends a block scalar's span
+/// after its final line break and trailing blank lines, at the start of the next node.
+fn scalar_end(text: &str, span: Span) -> Span {
+    let bytes = text.as_bytes();
+    let mut end = span.end as usize;
+    while end > span.start as usize
+        && matches!(bytes.get(end - 1), Some(b'\n' | b'\r' | b' ' | b'\t'))
+    {
+        end -= 1;
+    }
+    Span {
+        end: end as u32,
+        ..span
+    }
 }
 
 /// Whether the plain number written at `span` uses `_` separators (`4_0`, `48_000`).

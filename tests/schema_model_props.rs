@@ -1,0 +1,306 @@
+//! The schema's bounds are the model's (docs/format.md): rigs generated anywhere inside
+//! what the format allows — every number from its documented minimum to its maximum
+//! (2 to 4 294 967 295 for a decimation factor, 1 to 32 ADC bits, orders 1 to 12, edges
+//! in (0, 1], …), quantities from 1e-6 to 1e12 in every unit, with the cross-field rules
+//! kept (0 < passband < stopband, a stopband below half a stage's input rate, sources
+//! that form a tree) — raise no `schema` or other input-rule finding, and every channel
+//! is analysed or named in a finding (`foldcheck::campaign::silently_skipped`).
+//!
+//! The one refusal allowed is the model's documented limit (README, "Limits"): a clock
+//! or decimated rate whose exact fraction outgrows 128 bits is a `quantity` finding on
+//! the clock or stage that overflows.
+
+use foldcheck::campaign::{lint_text_keeping_rig, silently_skipped};
+use foldcheck::finding::INPUT_RULES;
+use proptest::prelude::*;
+
+/// A whole number from `lo` to `hi`, drawn towards both ends.
+fn whole(lo: u64, hi: u64) -> impl Strategy<Value = u64> {
+    prop_oneof![Just(lo), Just(hi), lo..=hi, lo..=(lo + 10).min(hi)]
+}
+
+/// A positive quantity `m·10^e unit`, spanning 1e-6 to about 1e12 of the unit.
+fn quantity(units: &'static [&'static str]) -> impl Strategy<Value = String> {
+    (1u32..=999_999, -12i32..=6, proptest::sample::select(units))
+        .prop_map(|(m, e, u)| format!("{m}e{e} {u}"))
+}
+
+fn frequency() -> impl Strategy<Value = String> {
+    quantity(&["Hz", "kHz", "MHz", "GHz"])
+}
+
+/// A level from 0.1 to 999.9 dB (levels are positive where the format uses them).
+fn level() -> impl Strategy<Value = String> {
+    (1u32..=9999).prop_map(|d| format!("{}.{} dB", d / 10, d % 10))
+}
+
+/// An edge fraction in (0, 1) with up to 4 decimals, as an integer of 1/10000.
+fn edges() -> impl Strategy<Value = (u32, u32)> {
+    (1u32..=9998).prop_flat_map(|p| (Just(p), (p + 1)..=9999))
+}
+
+fn fraction(x: u32) -> String {
+    format!("{}", f64::from(x) / 10_000.0)
+}
+
+/// A filter for an ADC chain or a sensor: butterworth, bessel, chebyshev or table.
+fn analog_filter() -> impl Strategy<Value = String> {
+    prop_oneof![
+        (1u32..=12, frequency())
+            .prop_map(|(o, c)| format!("{{ response: butterworth, order: {o}, cutoff: {c} }}")),
+        (1u32..=12, frequency())
+            .prop_map(|(o, c)| format!("{{ response: bessel, order: {o}, cutoff: {c} }}")),
+        (1u32..=12, frequency(), level()).prop_map(|(o, c, r)| format!(
+            "{{ response: chebyshev, order: {o}, cutoff: {c}, ripple: {r} }}"
+        )),
+        (1u32..=1000, 2usize..=5, level()).prop_map(|(step, n, a)| {
+            // Rising frequencies, in Hz.
+            let pts: Vec<String> = (1..=n)
+                .map(|i| format!("[{} Hz, {a}]", step as usize * i))
+                .collect();
+            format!("{{ response: table, points: [{}] }}", pts.join(", "))
+        }),
+    ]
+}
+
+/// A `digital` filter whose stopband edge stays below `half` (in its output rate).
+fn digital(half: f64) -> impl Strategy<Value = String> {
+    (
+        edges(),
+        level(),
+        prop_oneof![
+            Just(String::new()),
+            Just(", delay: 0 s".to_string()),
+            (0u32..=1000).prop_map(|d| format!(", delay-samples: {d}.5")),
+            quantity(&["ns", "us", "ms", "s"]).prop_map(|d| format!(", delay: {d}")),
+        ],
+    )
+        .prop_filter("stopband below half the input rate", move |((_, s), _, _)| {
+            f64::from(*s) / 10_000.0 < half
+        })
+        .prop_map(|((p, s), a, d)| {
+            format!(
+                "{{ response: digital, passband-edge: {}, stopband-edge: {}, attenuation: {a}{d} }}",
+                fraction(p),
+                fraction(s)
+            )
+        })
+}
+
+fn chain() -> impl Strategy<Value = String> {
+    proptest::collection::vec(analog_filter(), 0..=2).prop_map(|f| format!("[{}]", f.join(", ")))
+}
+
+/// A decimation stage: any factor, with no filter, a sinc or a digital filter.
+fn stage() -> impl Strategy<Value = String> {
+    whole(2, u64::from(u32::MAX)).prop_flat_map(|factor| {
+        let half = factor as f64 / 2.0;
+        prop_oneof![
+            Just(String::new()),
+            (1u32..=6).prop_map(|o| format!(", filter: {{ response: sinc, order: {o} }}")),
+            digital(half).prop_map(|d| format!(", filter: {d}")),
+        ]
+        .prop_map(move |f| format!("{{ factor: {factor}{f} }}"))
+    })
+}
+
+#[derive(Debug, Clone)]
+struct Spec {
+    text: String,
+}
+
+fn rig() -> impl Strategy<Value = Spec> {
+    let clocks = (
+        frequency(),
+        proptest::collection::vec(
+            (
+                any::<prop::sample::Index>(),
+                prop::option::of(whole(1, u64::from(u32::MAX))),
+                prop::option::of(whole(1, u64::from(u32::MAX))),
+            ),
+            0..=3,
+        ),
+    );
+    let modules = proptest::collection::vec(
+        (
+            1u32..=32,
+            prop::option::of(1u32..=64),
+            prop::option::of(chain()),
+            prop::option::of(level()),
+            prop::option::of(whole(1, u64::from(u32::MAX)).prop_flat_map(|ratio| {
+                prop::option::of(digital(ratio as f64 / 2.0)).prop_map(move |f| (ratio, f))
+            })),
+        ),
+        0..=2,
+    );
+    let sensors = proptest::collection::vec(
+        (
+            prop::option::of(frequency()),
+            prop::option::of((frequency(), level())),
+            prop::option::of(chain()),
+        ),
+        0..=2,
+    );
+    let channels = proptest::collection::vec(
+        (
+            any::<prop::sample::Index>(),
+            any::<prop::sample::Index>(),
+            any::<prop::sample::Index>(),
+            frequency(),
+            prop::option::of(chain()),
+            proptest::collection::vec(stage(), 0..=2),
+            prop::option::of(level()),
+            prop::option::of(1u32..=64),
+        ),
+        1..=4,
+    );
+    let extras = (
+        prop::option::of((101u32..=1000, level(), level(), 101u32..=1000, (1u32..=90))),
+        prop::option::of((1u32..=90, any::<bool>())),
+        proptest::collection::vec((frequency(), prop::option::of(level())), 0..=2),
+        prop::option::of((
+            quantity(&["B/s", "kB/s", "MB/s", "GiB/s"]),
+            quantity(&["kB", "GB", "TiB"]),
+            quantity(&["s", "min", "h", "d"]),
+        )),
+    );
+    (clocks, modules, sensors, channels, extras).prop_map(
+        |((root, derived), modules, sensors, channels, (defaults, group, disturbances, logger))| {
+            let mut t = String::from("format: 1\nrig: prop-rig\n");
+            if let Some((margin, ar, pt, ol, ph)) = defaults {
+                t.push_str(&format!(
+                    "defaults:\n  margin: {}\n  alias-rejection: {ar}\n  passband-tolerance: {pt}\n  oversampling-limit: {}\n  phase-tolerance: {ph} deg\n",
+                    f64::from(margin) / 100.0,
+                    f64::from(ol) / 100.0
+                ));
+            }
+            t.push_str(&format!("clocks:\n  - {{ name: k0, frequency: {root} }}\n"));
+            for (i, (src, div, mul)) in derived.iter().enumerate() {
+                let k = i + 1;
+                t.push_str(&format!("  - {{ name: k{k}, source: k{}", src.index(k)));
+                if let Some(d) = div {
+                    t.push_str(&format!(", divide: {d}"));
+                }
+                if let Some(m) = mul {
+                    t.push_str(&format!(", multiply: {m}"));
+                }
+                t.push_str(" }\n");
+            }
+            let n_clocks = derived.len() + 1;
+            if !sensors.is_empty() {
+                t.push_str("sensors:\n");
+                for (i, (bw, res, resp)) in sensors.iter().enumerate() {
+                    t.push_str(&format!("  - name: s{i}\n"));
+                    if let Some(bw) = bw {
+                        t.push_str(&format!("    bandwidth: {bw}\n"));
+                    }
+                    if let Some((f, g)) = res {
+                        t.push_str(&format!("    resonance: {{ frequency: {f}, gain: {g} }}\n"));
+                    }
+                    if let Some(r) = resp {
+                        t.push_str(&format!("    response: {r}\n"));
+                    }
+                }
+            }
+            if !modules.is_empty() {
+                t.push_str("modules:\n");
+                for (i, (bits, sbits, filters, ar, md)) in modules.iter().enumerate() {
+                    t.push_str(&format!("  - name: m{i}\n    adc-bits: {bits}\n"));
+                    if let Some(b) = sbits {
+                        t.push_str(&format!("    sample-bits: {b}\n"));
+                    }
+                    if let Some(f) = filters {
+                        t.push_str(&format!("    filters: {f}\n"));
+                    }
+                    if let Some(a) = ar {
+                        t.push_str(&format!("    alias-rejection: {a}\n"));
+                    }
+                    if let Some((ratio, f)) = md {
+                        t.push_str(&format!("    modulator:\n      oversampling-ratio: {ratio}\n"));
+                        if let Some(f) = f {
+                            t.push_str(&format!("      filter: {f}\n"));
+                        }
+                    }
+                }
+            }
+            t.push_str("channels:\n");
+            for (i, (clock, sensor, module, band, filters, stages, ar, sbits)) in
+                channels.iter().enumerate()
+            {
+                t.push_str(&format!(
+                    "  - name: ch{i}\n    clock: k{}\n    band: {band}\n",
+                    clock.index(n_clocks)
+                ));
+                if !sensors.is_empty() {
+                    t.push_str(&format!("    sensor: s{}\n", sensor.index(sensors.len())));
+                }
+                if !modules.is_empty() {
+                    t.push_str(&format!("    module: m{}\n", module.index(modules.len())));
+                }
+                if let Some(f) = filters {
+                    t.push_str(&format!("    filters: {f}\n"));
+                }
+                if !stages.is_empty() {
+                    t.push_str(&format!("    decimate: [{}]\n", stages.join(", ")));
+                }
+                if let Some(a) = ar {
+                    t.push_str(&format!("    alias-rejection: {a}\n"));
+                }
+                if let Some(b) = sbits {
+                    t.push_str(&format!("    sample-bits: {b}\n"));
+                }
+            }
+            if let (Some((ph, with_tol)), true) = (group, channels.len() >= 2) {
+                t.push_str("groups:\n  - name: g0\n    channels: [ch0, ch1]\n");
+                if with_tol {
+                    t.push_str(&format!("    phase-tolerance: {ph} deg\n"));
+                }
+            }
+            if !disturbances.is_empty() {
+                t.push_str("disturbances:\n");
+                for (i, (f, l)) in disturbances.iter().enumerate() {
+                    t.push_str(&format!("  - name: d{i}\n    frequency: {f}\n"));
+                    if let Some(l) = l {
+                        t.push_str(&format!("    level: {l}\n"));
+                    }
+                }
+            }
+            if let Some((tp, st, du)) = logger {
+                t.push_str(&format!(
+                    "logger:\n  throughput: {tp}\n  storage: {st}\n  duration: {du}\n"
+                ));
+            }
+            Spec { text: t }
+        },
+    )
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 32, ..ProptestConfig::default() })]
+
+    #[test]
+    fn documents_the_schema_accepts_are_read_and_every_channel_is_analysed_or_named(spec in rig()) {
+        let (_, findings, rig) =
+            lint_text_keeping_rig("/nonexistent-foldcheck-props/prop.rig.yaml", &spec.text);
+        for f in &findings {
+            let overflow = f.rule == "quantity" && f.message.contains("cannot be represented exactly");
+            prop_assert!(
+                !INPUT_RULES.contains(&f.rule) || overflow,
+                "{} finding on a document inside the format's bounds: {}\n{}",
+                f.rule,
+                f.message,
+                spec.text
+            );
+        }
+        let rig = rig.expect("a rig that reads");
+        let skipped = silently_skipped(&rig, &findings);
+        prop_assert!(skipped.is_empty(), "silently skipped: {skipped:?}\n{}", spec.text);
+        // The model accepts the values: a channel is left unanalysed only for the
+        // documented 128-bit limit (its finding is on the clock or stage that overflows,
+        // which `silently_skipped` above checks names the channel).
+        let overflow = findings.iter().any(|f| f.message.contains("cannot be represented exactly"));
+        for c in rig.channels.iter().filter(|c| !c.ok) {
+            prop_assert!(overflow, "channel `{}` not analysed\n{}", c.def.name.value, spec.text);
+        }
+    }
+}
