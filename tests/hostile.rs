@@ -596,7 +596,7 @@ fn tab_indentation_is_located() {
         one(
             "yaml-syntax",
             4,
-            2,
+            1,
             "tabs disallowed within this context (block indentation)"
         )
     );

@@ -275,8 +275,13 @@ fn rig() -> impl Strategy<Value = Spec> {
     )
 }
 
+// Twelve rigs per run: a rig whose band is far from its rates can make the analysis walk
+// up to 100 000 image bands per stage (`resolve::chain::MAX_IMAGE_BANDS`), repeated by
+// fix verification, which takes seconds in a debug build. The first run of this test
+// found the `passband-droop` help's factor search hanging on a 2³² − 1 sinc factor
+// (tests/trust.rs has the regression).
 proptest! {
-    #![proptest_config(ProptestConfig { cases: 32, ..ProptestConfig::default() })]
+    #![proptest_config(ProptestConfig { cases: 12, ..ProptestConfig::default() })]
 
     #[test]
     fn documents_the_schema_accepts_are_read_and_every_channel_is_analysed_or_named(spec in rig()) {

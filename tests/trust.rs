@@ -819,3 +819,47 @@ fn continuation_lines_at_the_parent_indentation_are_a_yaml_syntax_finding() {
     let f = lint("format: 1\nrig: probe\ndescription: \"a\n b\"\nx-list: [a,\n b]\n");
     assert!(!f.iter().any(|f| f.contains("yaml-syntax")), "{f:#?}");
 }
+
+#[test]
+fn sinc_droop_help_with_a_factor_of_two_to_the_32_minus_1_answers_at_once() {
+    // Regression (found by tests/schema_model_props.rs): the `passband-droop` help
+    // looked for a smaller sinc factor within the tolerance by trying every factor
+    // below 4 294 967 295, one at a time: a schema-valid rig hung the linter. Now
+    // bisection over the factors that keep the band below the output rate.
+    let text = "format: 1\nrig: wide-sinc\nclocks:\n  - { name: fast, frequency: 1e18 Hz }\nchannels:\n  - name: ch\n    clock: fast\n    band: 50 MHz\n    filters: []\n    decimate: [{ factor: 4294967295, filter: { response: sinc, order: 3 } }]\n";
+    let (tx, rx) = std::sync::mpsc::channel();
+    std::thread::spawn(move || {
+        let (_, findings) = lint_text("/nonexistent-foldcheck-trust/wide.rig.yaml", text);
+        tx.send(findings).unwrap()
+    });
+    let findings = rx
+        .recv_timeout(std::time::Duration::from_secs(60))
+        .expect("linting a rig with a sinc factor of 2^32 - 1 hung");
+    let droop = findings
+        .iter()
+        .find(|f| f.rule == "passband-droop")
+        .unwrap_or_else(|| panic!("{findings:#?}"));
+    // The help names the largest factor whose droop fits: by the sinc formula
+    // (Hogenauer 1981), 3 · 20·log10|M sin(π B/fin) / sin(π B M/fin)| ≤ 0.5 dB.
+    let help = droop.help.clone().unwrap_or_default();
+    let k: u64 = help
+        .split("`factor: ")
+        .nth(1)
+        .and_then(|r| r.split('`').next())
+        .and_then(|n| n.parse().ok())
+        .unwrap_or_else(|| panic!("no factor in the help: {help}"));
+    let droop_db = |m: f64| {
+        let x = std::f64::consts::PI * 50e6 / 1e18;
+        -3.0 * 20.0 * ((x * m).sin() / (m * x.sin())).abs().log10()
+    };
+    assert!(
+        droop_db(k as f64) <= 0.5 + 1e-6,
+        "{k}: {}",
+        droop_db(k as f64)
+    );
+    assert!(
+        droop_db((k + 1) as f64) > 0.5 - 1e-6,
+        "{k}: {}",
+        droop_db((k + 1) as f64)
+    );
+}

@@ -327,11 +327,32 @@ fn droop_help(cause: Option<&Contribution>, band: f64, att: f64, tol: f64) -> St
             let lower_order = (1..*order)
                 .rev()
                 .find(|&n| f64::from(n) * per_order <= budget + 1e-9);
-            // With the order kept, the largest smaller factor within the budget.
-            let lower_factor = (2..m).rev().find(|&k| {
-                fin.is_finite()
-                    && digital::sinc_attenuation_db(*order, k, fin, band) <= budget + 1e-9
-            });
+            // With the order kept, the largest smaller factor within the budget. While the
+            // band stays below the output rate (k < fin / band: the main lobe) the droop
+            // grows with the factor, so it is found by bisection: a factor may be
+            // 4 294 967 295, and a search through every smaller one was a hang.
+            let fits = |k: u32| digital::sinc_attenuation_db(*order, k, fin, band) <= budget + 1e-9;
+            let lobe = (fin / band).floor();
+            let top = if lobe.is_finite() && lobe >= 0.0 {
+                u64::from(m.saturating_sub(1)).min(lobe as u64)
+            } else {
+                u64::from(m.saturating_sub(1))
+            };
+            let lower_factor = if fin.is_finite() && band > 0.0 && top >= 2 && fits(2) {
+                // fits(lo) holds; find the largest k ≤ top that fits.
+                let (mut lo, mut hi) = (2u64, top);
+                while lo < hi {
+                    let mid = lo + (hi - lo).div_ceil(2);
+                    if fits(mid as u32) {
+                        lo = mid;
+                    } else {
+                        hi = mid - 1;
+                    }
+                }
+                Some(lo as u32)
+            } else {
+                None
+            };
             let mut ways = Vec::new();
             if let Some(n) = lower_order {
                 ways.push(format!(
