@@ -818,6 +818,18 @@ pub struct DelayInfo {
 }
 
 impl DelayInfo {
+    /// The delays of a chain with no filter (what a verdict-only probe carries).
+    fn none() -> DelayInfo {
+        DelayInfo {
+            digital: Vec::new(),
+            digital_s: 0.0,
+            complete: true,
+            analog_dc_s: 0.0,
+            analog_band_edge_s: 0.0,
+            latency_s: 0.0,
+        }
+    }
+
     /// The delays of `chain` for a band of `band_hz`.
     pub fn of(chain: &Chain, band_hz: f64) -> DelayInfo {
         let digital = chain.digital_delays();
@@ -954,8 +966,8 @@ pub fn analyse_rates(
 /// [`analyse_rates`] for the fix search, which asks only whether each verdict passes:
 /// the verdicts are the same, but what only explains them is left out (the
 /// contributions of each filter and their names, the filters' descriptions, the largest
-/// contributor to the droop, and the phase at the band edge, which is NaN), so a probe
-/// builds no text.
+/// contributor to the droop, the phase at the band edge, which is NaN, and the delays,
+/// those of an empty chain), so a probe builds no text.
 pub(crate) fn analyse_verdicts(
     rig: &Rig,
     index: usize,
@@ -993,11 +1005,6 @@ fn rates_with(
         .sensor
         .and_then(|s| rig.sensors[s].resonance.as_ref())
         .map(|r| (r.frequency.value, r.gain.value));
-    let names = if detail {
-        chain.filter_places()
-    } else {
-        Vec::new()
-    };
     let contributions = |f: f64, k: usize| -> Vec<(String, f64)> {
         if !detail {
             return Vec::new();
@@ -1005,10 +1012,9 @@ fn rates_with(
         chain
             .contributions(f, k)
             .into_iter()
-            .enumerate()
-            .map(|(i, c)| match names.get(i) {
-                Some(n) => (n.clone(), c.db),
-                None => (c.what, c.db),
+            .map(|c| {
+                let name = format!("{}: {}", c.place.name(), c.response.describe());
+                (name, c.db)
             })
             .collect()
     };
@@ -1203,7 +1209,11 @@ fn rates_with(
         } else {
             f64::NAN
         },
-        delays: DelayInfo::of(&chain, band_hz),
+        delays: if detail {
+            DelayInfo::of(&chain, band_hz)
+        } else {
+            DelayInfo::none()
+        },
         final_rate,
         final_rate_hz,
         final_ratio_exact: final_rate.checked_div(&band),

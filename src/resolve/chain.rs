@@ -1,7 +1,7 @@
 //! A channel's signal chain: its rate changes (the ADC and each decimation stage) and the
 //! attenuation and phase its filters give at any frequency.
 
-use super::{RChannel, Rig};
+use super::{FilterOrigin, RChannel, Rig};
 use crate::model::quantity::{Exact, to_f64};
 use crate::model::{Filter, Response};
 use crate::signal::analog::{Analog, AnalogKind};
@@ -103,11 +103,48 @@ pub struct Chain<'a> {
     pub changes: Vec<RateChange>,
 }
 
+/// Where a filter sits in a chain (decided by where it is written, never by its label).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum FilterPlace {
+    /// The sensor's own response.
+    Sensor,
+    /// The channel's own filters, or its module's.
+    Front(FilterOrigin),
+    /// The converter's digital filter (its module's modulator).
+    Converter,
+    /// The filter of decimation stage k (1-based).
+    Stage(usize),
+}
+
+impl FilterPlace {
+    /// The short name a contribution carries: "sensor response", "channel filter",
+    /// "module filter", "converter filter", "decimation filter".
+    pub fn short(self) -> &'static str {
+        match self {
+            FilterPlace::Sensor => "sensor response",
+            FilterPlace::Front(o) => o.place(),
+            FilterPlace::Converter => "converter filter",
+            FilterPlace::Stage(_) => "decimation filter",
+        }
+    }
+
+    /// The name with the stage: as [`FilterPlace::short`], "decimation stage k" for a
+    /// stage's filter.
+    pub fn name(self) -> String {
+        match self {
+            FilterPlace::Stage(k) => format!("decimation stage {k}"),
+            other => other.short().to_string(),
+        }
+    }
+}
+
 /// One contribution to a chain's attenuation, for `inspect`.
 #[derive(Clone, Debug)]
 pub struct Contribution {
     /// What it is ("channel filter: 4th-order Butterworth at 20 kHz").
     pub what: String,
+    /// Where the filter sits in the chain.
+    pub place: FilterPlace,
     /// Where the filter is written.
     pub span: Span,
     /// Attenuation in dB.
@@ -191,7 +228,7 @@ impl<'a> Chain<'a> {
         &self,
         upto: usize,
         rate: Option<f64>,
-    ) -> Vec<(&'a Filter, Placement, &'static str)> {
+    ) -> Vec<(&'a Filter, Placement, FilterPlace)> {
         let fs0 = match rate {
             Some(r) if upto == 0 => r,
             _ => to_f64(&self.changes[0].fs),
@@ -209,13 +246,17 @@ impl<'a> Chain<'a> {
             },
             _ => analog_at,
         };
-        let mut v: Vec<(&'a Filter, Placement, &'static str)> = Vec::new();
+        let mut v: Vec<(&'a Filter, Placement, FilterPlace)> = Vec::new();
         if let Some(s) = self.channel.sensor.map(|i| &self.rig.sensors[i])
             && let Some(resp) = &s.response
         {
-            v.extend(resp.value.iter().map(|f| (f, analog_at, "sensor response")));
+            v.extend(
+                resp.value
+                    .iter()
+                    .map(|f| (f, analog_at, FilterPlace::Sensor)),
+            );
         }
-        let origin = self.channel.filters_origin.place();
+        let origin = FilterPlace::Front(self.channel.filters_origin);
         v.extend(self.channel.filters.iter().map(|f| {
             let at = if f.response.is_analog() || matches!(f.response, Response::Table { .. }) {
                 analog_at
@@ -225,7 +266,7 @@ impl<'a> Chain<'a> {
             (f, at, origin)
         }));
         if let Some(f) = self.modulator().and_then(|m| m.filter.as_ref()) {
-            v.push((f, adc, "converter filter"));
+            v.push((f, adc, FilterPlace::Converter));
         }
         for (k, st) in self.channel.def.decimate.iter().enumerate().take(upto) {
             if let Some(f) = &st.filter {
@@ -241,43 +282,7 @@ impl<'a> Chain<'a> {
                         stage: Some((fin, ch.factor)),
                     },
                 };
-                v.push((f, at, "decimation filter"));
-            }
-        }
-        v
-    }
-
-    /// Each filter of the whole chain named by its place, in the order
-    /// [`Chain::contributions`] lists them: "sensor response: …", "channel filter: …"
-    /// (or "module filter: …"), "converter filter: …", "decimation stage k: …".
-    pub fn filter_places(&self) -> Vec<String> {
-        let mut v = Vec::new();
-        if let Some(s) = self.channel.sensor.map(|i| &self.rig.sensors[i])
-            && let Some(resp) = &s.response
-        {
-            v.extend(
-                resp.value
-                    .iter()
-                    .map(|f| format!("sensor response: {}", f.response.describe())),
-            );
-        }
-        let origin = self.channel.filters_origin.place();
-        v.extend(
-            self.channel
-                .filters
-                .iter()
-                .map(|f| format!("{origin}: {}", f.response.describe())),
-        );
-        if let Some(f) = self.modulator().and_then(|m| m.filter.as_ref()) {
-            v.push(format!("converter filter: {}", f.response.describe()));
-        }
-        for (k, st) in self.channel.def.decimate.iter().enumerate() {
-            if let Some(f) = &st.filter {
-                v.push(format!(
-                    "decimation stage {}: {}",
-                    k + 1,
-                    f.response.describe()
-                ));
+                v.push((f, at, FilterPlace::Stage(k + 1)));
             }
         }
         v
@@ -302,8 +307,9 @@ impl<'a> Chain<'a> {
     pub fn contributions(&self, f: f64, upto: usize) -> Vec<Contribution> {
         self.filters_upto(upto, None)
             .into_iter()
-            .map(|(flt, at, what)| Contribution {
-                what: format!("{what}: {}", flt.response.describe()),
+            .map(|(flt, at, place)| Contribution {
+                what: format!("{}: {}", place.short(), flt.response.describe()),
+                place,
                 span: flt.span,
                 db: filter_attenuation_db(&flt.response, f, at),
                 response: flt.response.clone(),

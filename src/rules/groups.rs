@@ -449,24 +449,26 @@ struct DigitalSignature<'r> {
     stages: Vec<(Option<crate::model::Exact>, u32, Option<&'r Response>)>,
 }
 
-/// The digital filters of a chain, in signal order, with where they sit.
-fn digital_filters<'c>(chain: &Chain<'c>) -> Vec<(&'c Filter, String)> {
-    let mut v: Vec<(&'c Filter, String)> = Vec::new();
+/// The digital filters of a chain, in signal order, with where they sit (the
+/// decimation stage, 1-based, or `None` at the ADC and in the converter) and that place
+/// in words.
+fn digital_filters<'c>(chain: &Chain<'c>) -> Vec<(&'c Filter, Option<usize>, String)> {
+    let mut v: Vec<(&'c Filter, Option<usize>, String)> = Vec::new();
     let ch = chain.channel;
     for f in &ch.filters {
         if matches!(f.response, Response::Digital { .. }) {
-            v.push((f, "at the ADC".to_string()));
+            v.push((f, None, "at the ADC".to_string()));
         }
     }
     if let Some(f) = chain.modulator().and_then(|m| m.filter.as_ref()) {
-        v.push((f, "in the converter".to_string()));
+        v.push((f, None, "in the converter".to_string()));
     }
     for (k, st) in ch.def.decimate.iter().enumerate() {
         if let Some(f) = &st.filter
             && !f.response.is_analog()
             && !matches!(f.response, Response::Table { .. })
         {
-            v.push((f, format!("in decimation stage {}", k + 1)));
+            v.push((f, Some(k + 1), format!("in decimation stage {}", k + 1)));
         }
     }
     v
@@ -477,8 +479,8 @@ fn signature<'c>(chain: &Chain<'c>) -> DigitalSignature<'c> {
         modulator_hz: chain.modulator_rate_hz(),
         adc: digital_filters(chain)
             .iter()
-            .filter(|(_, at)| !at.starts_with("in decimation"))
-            .map(|(f, _)| &f.response)
+            .filter(|(_, stage, _)| stage.is_none())
+            .map(|(f, _, _)| &f.response)
             .collect(),
         stages: chain
             .changes
@@ -536,7 +538,7 @@ fn incomplete_pair(
     let mut gaps: Vec<(Span, String, String)> = Vec::new();
     if signature(a) != signature(b) {
         for (c, chain) in [(ai, a), (bi, b)] {
-            for (f, at) in digital_filters(chain) {
+            for (f, _, at) in digital_filters(chain) {
                 if let Response::Digital { delay: None, .. } = f.response {
                     gaps.push((
                         f.span,

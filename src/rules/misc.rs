@@ -9,7 +9,7 @@ use crate::finding::{Finding, Label};
 use crate::fingerprint::segment;
 use crate::model::Response;
 use crate::model::quantity::to_f64;
-use crate::resolve::chain::Contribution;
+use crate::resolve::chain::{Contribution, FilterPlace};
 use crate::signal::digital;
 use crate::words::{format_db, format_hz, round_to, sig6};
 
@@ -262,7 +262,7 @@ fn check_droop(a: &RigAnalysis, out: &mut Vec<Finding>) {
         let in_stage = p
             .largest
             .as_ref()
-            .filter(|c| !c.what.starts_with("sensor response"));
+            .filter(|c| c.place != FilterPlace::Sensor);
         let (span, label) = match (&ch.filters_span, in_stage) {
             (_, Some(c)) => (
                 c.span,
@@ -316,8 +316,8 @@ fn droop_help(cause: Option<&Contribution>, band: f64, att: f64, tol: f64) -> St
     // What the other filters leave for this one.
     let budget = tol - (att - c.db);
     let what = &c.what;
-    let place = what.split(": ").next().unwrap_or(what);
-    let in_decimation = place.starts_with("decimation");
+    let place = c.place.short();
+    let in_decimation = matches!(c.place, FilterPlace::Stage(_));
     match &c.response {
         Response::Sinc { order } => {
             let (fin, m) = c.placement.stage.unwrap_or((f64::NAN, 1));
