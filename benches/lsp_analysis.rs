@@ -20,7 +20,9 @@
 //! are verified (proposals that verification would drop) and after (must be 0).
 //!
 //! Each is timed `REPEATS` times (default 40) after two warm-up runs; the median and the
-//! fastest are printed, and the ratio of the medians to `check-core`.
+//! fastest are printed, the CPU time per run (all threads, from `/proc`: of this process,
+//! or of the server for the round trip; it does not grow when the machine is busy), the
+//! machine's load average, and the ratio of the medians to `check-core`.
 
 use foldcheck::campaign::{self, Options, Overlay};
 use foldcheck::lsp::snapshot;
@@ -35,16 +37,37 @@ fn median(mut v: Vec<Duration>) -> (Duration, Duration) {
     (v[v.len() / 2], v[0])
 }
 
-fn time(repeats: usize, mut f: impl FnMut()) -> (Duration, Duration) {
+/// CPU time (user + system, all threads) a process has used so far, in milliseconds,
+/// from `/proc/<pid>/stat` (Linux; clock ticks of 10 ms, the usual `CLK_TCK` of 100).
+/// `None` where there is no such file.
+fn cpu_ms(pid: &str) -> Option<f64> {
+    let stat = std::fs::read_to_string(format!("/proc/{pid}/stat")).ok()?;
+    // Fields after the command name (which may hold spaces) start at field 3.
+    let rest = &stat[stat.rfind(')')? + 2..];
+    let f: Vec<&str> = rest.split(' ').collect();
+    let ticks: f64 = f.get(11)?.parse::<f64>().ok()? + f.get(12)?.parse::<f64>().ok()?;
+    Some(ticks * 10.0)
+}
+
+/// Median and fastest wall time of `repeats` runs of `f` (after two warm-up runs), and
+/// the mean CPU time per run that process `pid` used meanwhile (a load-independent
+/// figure on a shared machine; `NaN` when it cannot be read).
+fn time(repeats: usize, pid: &str, mut f: impl FnMut()) -> (Duration, Duration, f64) {
     f();
     f();
     let mut v = Vec::with_capacity(repeats);
+    let cpu0 = cpu_ms(pid);
     for _ in 0..repeats {
         let t = Instant::now();
         f();
         v.push(t.elapsed());
     }
-    median(v)
+    let cpu = match (cpu0, cpu_ms(pid)) {
+        (Some(a), Some(b)) => (b - a) / repeats as f64,
+        _ => f64::NAN,
+    };
+    let (med, min) = median(v);
+    (med, min, cpu)
 }
 
 fn send(stdin: &mut impl Write, v: serde_json::Value) {
@@ -87,7 +110,7 @@ fn main() {
     let text = std::fs::read_to_string(&path).expect("the rig is readable");
     let channels = text.matches("\n  - name:").count();
 
-    let check = time(repeats, || {
+    let check = time(repeats, "self", || {
         let out = campaign::run(std::slice::from_ref(&path), &Options::default()).unwrap();
         std::hint::black_box(out.findings.len());
     });
@@ -96,14 +119,14 @@ fn main() {
     overlay.insert(path.clone(), text.clone());
     let overlay = Arc::new(overlay);
     let mut findings = 0;
-    let analyse = time(repeats, || {
+    let analyse = time(repeats, "self", || {
         let snap = snapshot::analyse(&path, overlay.clone());
         findings = snap.outcome.findings.len();
         std::hint::black_box(snap.occurrences.len());
     });
     // What the server ran on each change before fixes were verified lazily: the same
     // analysis, then every proposed fix of the document verified.
-    let analyse_verify = time(repeats, || {
+    let analyse_verify = time(repeats, "self", || {
         let mut snap = snapshot::analyse(&path, overlay.clone());
         snap.verify_range(0, usize::MAX);
         std::hint::black_box(snap.occurrences.len());
@@ -179,7 +202,8 @@ fn main() {
     let diagnostics = published["params"]["diagnostics"]
         .as_array()
         .map_or(0, Vec::len);
-    let round_trip = time(repeats, || {
+    let child_pid = child.id().to_string();
+    let round_trip = time(repeats, &child_pid, || {
         send(
             &mut stdin,
             serde_json::json!({"jsonrpc": "2.0", "method": "textDocument/didSave",
@@ -209,8 +233,14 @@ fn main() {
         "help lines that differ from check's: {differ_before} before verification (proposals \
          that fail it), {differ_after} after verifying the document's fixes (must be 0)"
     );
-    println!("| step | median | fastest | ratio to check-core |");
-    println!("|---|---|---|---|");
+    println!(
+        "load average: {}",
+        std::fs::read_to_string("/proc/loadavg")
+            .unwrap_or_default()
+            .trim()
+    );
+    println!("| step | median | fastest | CPU per run | ratio to check-core (median) |");
+    println!("|---|---|---|---|---|");
     let mut steps = vec![
         ("check-core", check),
         ("analyse", analyse),
@@ -218,11 +248,17 @@ fn main() {
         ("round-trip", round_trip),
     ];
     if !one_action.is_empty() {
-        steps.push(("verify one code action's range", median(one_action)));
+        let (med, min) = median(one_action);
+        steps.push(("verify one code action's range", (med, min, f64::NAN)));
     }
-    for (name, (med, min)) in steps {
+    for (name, (med, min, cpu)) in steps {
+        let cpu = if cpu.is_nan() {
+            "–".to_string()
+        } else {
+            format!("{cpu:.1} ms")
+        };
         println!(
-            "| {name} | {:.2} ms | {:.2} ms | {:.2} |",
+            "| {name} | {:.2} ms | {:.2} ms | {cpu} | {:.2} |",
             ms(med),
             ms(min),
             ms(med) / ms(check.0)
