@@ -10,17 +10,19 @@
 # rigs with extreme values (fuzz/src/rig.rs). Both check the invariants of
 # fuzz/src/lib.rs (`check`).
 #
-# One job at a time, niced (the build by 10, the fuzzer by 5): the machine is shared. Needs cargo-fuzz (`cargo install cargo-fuzz`)
-# and a nightly toolchain; where only stable is installed the script sets
-# RUSTC_BOOTSTRAP=1, which lets stable accept the flags. The targets are built without a
+# One job at a time, niced (the build by 10, the fuzzer by 5): the machine is shared.
+# Needs cargo-fuzz (`cargo install cargo-fuzz`) and a nightly toolchain; where only
+# stable is installed the script sets RUSTC_BOOTSTRAP=1, which lets stable accept the
+# flags. The targets are built without a
 # sanitizer (`-s none`: the code is safe Rust, where a sanitizer finds nothing that a
 # panic does not, at a third of the speed) and with debug assertions and overflow checks
 # (`-a`). The build has its own target directory, fuzz/target.
 #
 # Seeds for `lint` (the example rigs, the catalog, every rule's failing and passing
-# example) are written to fuzz/corpus/lint first; corpora grow in fuzz/corpus/<target>
-# between runs. Crashes land in fuzz/artifacts/<target>; libFuzzer's log is
-# fuzz/fuzz-<target>.log. An input slower than 30 s is a crash (-timeout=30; inputs over
+# example) are written to fuzz/corpus/lint first; the committed, minimised corpora of
+# earlier runs in fuzz/seeds/<target> are read as well; corpora grow in
+# fuzz/corpus/<target> (ignored) between runs. Crashes land in fuzz/artifacts/<target>;
+# libFuzzer's log is fuzz/fuzz-<target>.log. An input slower than 30 s is a crash (-timeout=30; inputs over
 # 2 s are logged as slow units), as is one needing more than 2 GB (-rss_limit_mb).
 set -euo pipefail
 secs=${1:-60}
@@ -49,7 +51,9 @@ for t in $targets; do
     log=$here/fuzz-$t.log
     dict=()
     [ "$t" = lint ] && dict=(-dict="$here/rig.dict")
-    nice -n 5 "$bin/$t" "$corpus" "${dict[@]}" \
+    seeds=()
+    [ -d "$here/seeds/$t" ] && seeds=("$here/seeds/$t")
+    nice -n 5 "$bin/$t" "$corpus" "${seeds[@]}" "${dict[@]}" \
         -max_total_time="$secs" -max_len=65536 -print_final_stats=1 \
         -timeout=30 -report_slow_units=2 -rss_limit_mb=2048 \
         -artifact_prefix="$here/artifacts/$t/" >"$log" 2>&1 || status=$?
