@@ -114,6 +114,10 @@ fn no_new_failures(before: &RateAnalysis, after: &RateAnalysis) -> bool {
 /// A multiplier is tried up to this many times the written one.
 const MULTIPLIER_REACH: u64 = 8;
 
+/// At most this many multipliers are tried (each is one analysis): a huge written
+/// multiplier must not turn the search into millions of probes.
+const MULTIPLIER_PROBES: u64 = 64;
+
 /// At most this many other channels on a clock are re-analysed to confirm a divider
 /// change that reaches them too (beyond it, sampling on another clock is proposed).
 const SHARED_CLOCK_LIMIT: usize = 8;
@@ -299,8 +303,10 @@ fn find_plan(
         // A written multiplier: the smallest larger one that passes (the rate rises
         // with it; a module's limits or `oversampling` bound it from above).
         if multiply.is_some()
-            && let Some(nm) =
-                (m + 1..=m.saturating_mul(MULTIPLIER_REACH).max(m + 16)).find(|&nm| ok(nm, d))
+            && let Some(nm) = (1..=MULTIPLIER_PROBES)
+                .map(|i| m.saturating_add(i))
+                .take_while(|&nm| nm <= m.saturating_mul(MULTIPLIER_REACH).max(m + 16))
+                .find(|&nm| ok(nm, d))
         {
             return Some(Plan::Multiplier(nm));
         }
