@@ -210,7 +210,7 @@ def ratio(s, a, b):
 def fmt(x, f="{:.2f}"):
     return f.format(x) if x is not None else "not measured"
 print()
-print("| target (issue 12) | measured in this run | met? |")
+print("| speed target | measured in this run | met? |")
 print("|---|---|---|")
 def row(what, value, ok):
     print(f"| {what} | {value} | {'n/a' if ok is None else ('yes' if ok else 'no')} |")
