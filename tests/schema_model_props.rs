@@ -13,6 +13,7 @@
 use foldcheck::campaign::{lint_text_keeping_rig, silently_skipped};
 use foldcheck::finding::INPUT_RULES;
 use proptest::prelude::*;
+use proptest::test_runner::RngSeed;
 
 /// A whole number from `lo` to `hi`, drawn towards both ends.
 fn whole(lo: u64, hi: u64) -> impl Strategy<Value = u64> {
@@ -279,9 +280,14 @@ fn rig() -> impl Strategy<Value = Spec> {
 // up to 100 000 image bands per stage (`resolve::chain::MAX_IMAGE_BANDS`), repeated by
 // fix verification, which takes seconds in a debug build. The first run of this test
 // found the `passband-droop` help's factor search hanging on a 2³² − 1 sinc factor
-// (tests/trust.rs has the regression).
+// (tests/trust.rs has the regression). The seed is fixed so that every CI run reads the
+// same twelve rigs and takes the same time; change it locally to explore other rigs.
 proptest! {
-    #![proptest_config(ProptestConfig { cases: 12, ..ProptestConfig::default() })]
+    #![proptest_config(ProptestConfig {
+        cases: 12,
+        rng_seed: RngSeed::Fixed(20_261_202),
+        ..ProptestConfig::default()
+    })]
 
     #[test]
     fn documents_the_schema_accepts_are_read_and_every_channel_is_analysed_or_named(spec in rig()) {
