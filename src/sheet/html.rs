@@ -303,7 +303,12 @@ fn row(r: &Row) -> Markup {
                         (db_text(p.attenuation_db)) br; small { "tolerance " (db_text(p.tolerance_db)) }
                     } @else { "—" }
                 }
-                td.num data-v=(num(r.latency_s)) { (opt(r.latency_s, format_seconds)) }
+                td.num data-v=(num(r.latency_s)) {
+                    (opt(r.latency_s, format_seconds))
+                    @if r.latency_s.is_some() && !r.latency_complete {
+                        br; small { "a digital delay unknown" }
+                    }
+                }
                 td.num data-v=(active) {
                     (active)
                     @if suppressed > 0 { br; small { "+" (suppressed) " suppressed" } }

@@ -223,6 +223,8 @@ pub struct Row {
     pub worst: Option<AliasFailure>,
     /// The chain's latency (analog group delay plus digital delay), seconds.
     pub latency_s: Option<f64>,
+    /// False when a digital filter gives no delay (it counts as zero in `latency_s`).
+    pub latency_complete: bool,
     /// The worst severity among its active findings.
     pub status: Status,
     /// The rules whose verdict fails, with the stage or the disturbance.
@@ -446,12 +448,10 @@ fn rig_sheet(
             })
             .collect();
         let worst = ins.analysis.as_ref().and_then(|a| a.worst_fold());
-        let ch = &rig.channels[ci];
-        let latency_s = if ch.ok {
-            Chain::new(rig, ch).map(|c| c.latency_s())
-        } else {
-            None
-        };
+        // The analysis' own delays: the same latency `inspect` shows, not computed again.
+        let delays = ins.analysis.as_ref().map(|a| &a.delays);
+        let latency_s = delays.map(|d| d.latency_s);
+        let latency_complete = delays.is_none_or(|d| d.complete);
         let draw = match plots {
             Plots::None => false,
             Plots::All => true,
@@ -468,6 +468,7 @@ fn rig_sheet(
             ins,
             worst,
             latency_s,
+            latency_complete,
             status,
             failing,
             svg,
