@@ -89,6 +89,27 @@ struct Log<'a> {
     base: &'a Path,
 }
 
+/// The run's `tool`: the driver's name, version and rule table. It depends on nothing
+/// but the build, so it is built once per process and shared by every log written.
+fn tool() -> &'static Value {
+    static TOOL: std::sync::OnceLock<Value> = std::sync::OnceLock::new();
+    TOOL.get_or_init(|| {
+        let mut driver = Map::new();
+        driver.insert("name".into(), json!("foldcheck"));
+        driver.insert("version".into(), json!(env!("CARGO_PKG_VERSION")));
+        // Only when Cargo.toml names a repository (docs/output.md).
+        let repository = env!("CARGO_PKG_REPOSITORY");
+        if !repository.is_empty() {
+            driver.insert("informationUri".into(), json!(repository));
+        }
+        driver.insert(
+            "rules".into(),
+            Value::Array(RULES.iter().map(|r| rule(r)).collect()),
+        );
+        json!({ "driver": driver })
+    })
+}
+
 /// The log's one run.
 struct Run<'a>(&'a Log<'a>);
 
@@ -107,20 +128,8 @@ impl Serialize for Log<'_> {
 
 impl Serialize for Run<'_> {
     fn serialize<S: Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
-        let mut driver = Map::new();
-        driver.insert("name".into(), json!("foldcheck"));
-        driver.insert("version".into(), json!(env!("CARGO_PKG_VERSION")));
-        // Only when Cargo.toml names a repository (docs/output.md).
-        let repository = env!("CARGO_PKG_REPOSITORY");
-        if !repository.is_empty() {
-            driver.insert("informationUri".into(), json!(repository));
-        }
-        driver.insert(
-            "rules".into(),
-            Value::Array(RULES.iter().map(|r| rule(r)).collect()),
-        );
         let mut m = s.serialize_map(Some(4))?;
-        m.serialize_entry("tool", &json!({ "driver": driver }))?;
+        m.serialize_entry("tool", tool())?;
         m.serialize_entry(
             "originalUriBaseIds",
             &json!({ SRCROOT: { "uri": base_uri(self.0.base) } }),
