@@ -315,3 +315,353 @@ proptest! {
         }
     }
 }
+
+// ---------------------------------------------------------------------------------------
+// The schema check's fast path (`foldcheck::model::conform::surely_conforms`) against the
+// JSON Schema validator (the `jsonschema` crate on schemas/rig.schema.json, draft
+// 2020-12): "surely conforms" must never be said of a document the validator rejects,
+// and every document the validator accepts should get it (the cases where it does not
+// are counted and bounded below).
+
+use foldcheck::model::conform::surely_conforms;
+use foldcheck::model::schema::RIG_SCHEMA;
+use foldcheck::source::LineIndex;
+use foldcheck::source::yaml::{self, Node, NodeKind};
+use proptest::strategy::ValueTree;
+use proptest::test_runner::TestRunner;
+
+fn rig_validator() -> jsonschema::Validator {
+    let schema: serde_json::Value = serde_json::from_str(RIG_SCHEMA).expect("schema is JSON");
+    jsonschema::draft202012::new(&schema).expect("a 2020-12 schema")
+}
+
+/// The fast path's answer and the validator's for one document.
+fn verdicts(validator: &jsonschema::Validator, root: &Node, text: &str) -> (bool, bool) {
+    (
+        surely_conforms(root),
+        validator.is_valid(&root.to_json(text)),
+    )
+}
+
+/// One small change of the kind a person makes by mistake (or that stays inside the
+/// format: a removed optional key, an `x-` key), applied to the `at`-th node in
+/// pre-order that can take it.
+#[derive(Debug, Clone)]
+enum Mutation {
+    /// The node's value replaced by a value of another type (or another value).
+    Replace(prop::sample::Index, NodeKind),
+    /// A key added to a mapping: a key of another section, a typo, or an `x-` key.
+    AddKey(prop::sample::Index, &'static str, NodeKind),
+    /// An entry removed from a mapping.
+    RemoveKey(prop::sample::Index, prop::sample::Index),
+    /// An item of a sequence written twice.
+    RepeatItem(prop::sample::Index, prop::sample::Index),
+}
+
+/// Values a node is set to: other types, numbers on and beyond the schema's bounds,
+/// enum words misspelt or from another place, names the pattern refuses.
+fn replacement(i: usize) -> NodeKind {
+    const STRINGS: &[&str] = &[
+        "Butterworth",
+        "sinc",
+        "digital",
+        "table",
+        "bessel",
+        "chebyshev",
+        "butterworth ",
+        "Ch-1",
+        "-a",
+        "",
+        "a b",
+        "bay_3.x",
+        "kanal-ä",
+        "1 kHz",
+        "x",
+    ];
+    const INTS: &[i128] = &[
+        0,
+        -1,
+        1,
+        2,
+        6,
+        7,
+        12,
+        13,
+        32,
+        33,
+        64,
+        65,
+        4_294_967_295,
+        4_294_967_296,
+        i64::MAX as i128 + 1,
+    ];
+    const FLOATS: &[f64] = &[
+        0.0,
+        -0.0,
+        1.0,
+        1.5,
+        0.5,
+        -0.5,
+        2.0,
+        1e300,
+        f64::NAN,
+        f64::INFINITY,
+    ];
+    let n = STRINGS.len() + INTS.len() + FLOATS.len();
+    match i % (n + 4) {
+        i if i < STRINGS.len() => NodeKind::Str(STRINGS[i].to_string()),
+        i if i < STRINGS.len() + INTS.len() => NodeKind::Int(INTS[i - STRINGS.len()]),
+        i if i < n => NodeKind::Float(FLOATS[i - STRINGS.len() - INTS.len()]),
+        i if i == n => NodeKind::Null,
+        i if i == n + 1 => NodeKind::Bool(true),
+        i if i == n + 2 => NodeKind::Seq(Vec::new()),
+        _ => NodeKind::Map(Vec::new()),
+    }
+}
+
+const EXTRA_KEYS: &[&str] = &[
+    "x-note",
+    "order",
+    "cutoff",
+    "ripple",
+    "points",
+    "delay",
+    "delay-samples",
+    "source",
+    "divide",
+    "multiply",
+    "frequency",
+    "rate",
+    "oversampling-ratio",
+    "name",
+    "channels",
+    "catalog",
+    "rig",
+    "logger",
+    "defaults",
+    "bnad",
+    "filter",
+    "level",
+    "include",
+];
+
+/// How many nodes pass `keep`.
+fn count(node: &Node, keep: &dyn Fn(&Node) -> bool) -> usize {
+    usize::from(keep(node))
+        + match &node.kind {
+            NodeKind::Seq(items) => items.iter().map(|n| count(n, keep)).sum(),
+            NodeKind::Map(entries) => entries.iter().map(|(_, v)| count(v, keep)).sum(),
+            _ => 0,
+        }
+}
+
+/// Apply `change` to the `k`-th node in pre-order that passes `keep`.
+fn apply_nth(
+    node: &mut Node,
+    keep: &dyn Fn(&Node) -> bool,
+    k: &mut usize,
+    change: &mut dyn FnMut(&mut Node),
+) -> bool {
+    if keep(node) {
+        if *k == 0 {
+            change(node);
+            return true;
+        }
+        *k -= 1;
+    }
+    match &mut node.kind {
+        NodeKind::Seq(items) => items.iter_mut().any(|n| apply_nth(n, keep, k, change)),
+        NodeKind::Map(entries) => entries
+            .iter_mut()
+            .any(|(_, v)| apply_nth(v, keep, k, change)),
+        _ => false,
+    }
+}
+
+/// Apply `m` to the tree; `false` if the tree has no node it applies to.
+fn mutate(root: &mut Node, m: &Mutation) -> bool {
+    let on = |root: &mut Node,
+              keep: &dyn Fn(&Node) -> bool,
+              at: &prop::sample::Index,
+              change: &mut dyn FnMut(&mut Node)| {
+        let n = count(root, keep);
+        n > 0 && apply_nth(root, keep, &mut at.index(n), change)
+    };
+    let node = |kind| Node {
+        span: root_span(),
+        kind,
+    };
+    match m {
+        Mutation::Replace(at, v) => on(root, &|_| true, at, &mut |n| n.kind = v.clone()),
+        Mutation::AddKey(at, k, v) => on(root, &|n| n.as_map().is_some(), at, &mut |n| {
+            if let NodeKind::Map(entries) = &mut n.kind {
+                entries.push((node(NodeKind::Str(k.to_string())), node(v.clone())));
+            }
+        }),
+        Mutation::RemoveKey(at, which) => on(
+            root,
+            &|n| n.as_map().is_some_and(|m| !m.is_empty()),
+            at,
+            &mut |n| {
+                if let NodeKind::Map(entries) = &mut n.kind {
+                    entries.remove(which.index(entries.len()));
+                }
+            },
+        ),
+        Mutation::RepeatItem(at, which) => on(
+            root,
+            &|n| n.as_seq().is_some_and(|s| !s.is_empty()),
+            at,
+            &mut |n| {
+                if let NodeKind::Seq(items) = &mut n.kind {
+                    let again = items[which.index(items.len())].clone();
+                    items.push(again);
+                }
+            },
+        ),
+    }
+}
+
+fn root_span() -> foldcheck::source::Span {
+    foldcheck::source::Span::new(0, 0, 0)
+}
+
+fn mutation() -> impl Strategy<Value = Mutation> {
+    prop_oneof![
+        4 => (any::<prop::sample::Index>(), 0usize..64)
+            .prop_map(|(a, v)| Mutation::Replace(a, replacement(v))),
+        3 => (any::<prop::sample::Index>(), proptest::sample::select(EXTRA_KEYS), 0usize..64)
+            .prop_map(|(a, k, v)| Mutation::AddKey(a, k, replacement(v))),
+        2 => (any::<prop::sample::Index>(), any::<prop::sample::Index>())
+            .prop_map(|(a, w)| Mutation::RemoveKey(a, w)),
+        1 => (any::<prop::sample::Index>(), any::<prop::sample::Index>())
+            .prop_map(|(a, w)| Mutation::RepeatItem(a, w)),
+    ]
+}
+
+#[test]
+fn fast_path_agrees_with_the_validator_on_generated_rigs_and_near_misses() {
+    let validator = rig_validator();
+    let mut runner = TestRunner::deterministic();
+    // The bases: generated rigs, and every rig and catalog in the tests and examples that
+    // the validator accepts (catalogs, modulators, includes, `x-` keys, …).
+    let files: Vec<String> = yaml_files()
+        .into_iter()
+        .filter_map(|(_, text)| {
+            let root = yaml::parse(0, &text, &LineIndex::new(&text)).ok()?;
+            validator.is_valid(&root.to_json(&text)).then_some(text)
+        })
+        .collect();
+    let base = prop_oneof![rig().prop_map(|s| s.text), proptest::sample::select(files),];
+    let strategy = (base, proptest::collection::vec(mutation(), 0..=2));
+    let (mut accepted, mut accepted_unproven, mut rejected, mut clean_rigs) = (0, 0, 0, 0);
+    let mut unproven = Vec::new();
+    for _ in 0..2000 {
+        let (text, mutations) = strategy.new_tree(&mut runner).expect("a value").current();
+        let text = &text;
+        let mut root = yaml::parse(0, text, &LineIndex::new(text)).expect("generated YAML parses");
+        if mutations.is_empty() {
+            clean_rigs += 1;
+            let (fast, valid) = verdicts(&validator, &root, text);
+            assert!(
+                valid && fast,
+                "an unchanged generated rig: fast {fast}, valid {valid}\n{text}"
+            );
+        }
+        for m in &mutations {
+            mutate(&mut root, m);
+        }
+        let (fast, valid) = verdicts(&validator, &root, text);
+        assert!(
+            !fast || valid,
+            "the fast path says a document conforms that the validator rejects\n{mutations:?}\n{text}\n{:#?}",
+            validator
+                .iter_errors(&root.to_json(text))
+                .map(|e| e.to_string())
+                .collect::<Vec<_>>()
+        );
+        match (fast, valid) {
+            (_, false) => rejected += 1,
+            (true, true) => accepted += 1,
+            (false, true) => {
+                accepted_unproven += 1;
+                unproven.push(format!("{mutations:?}"));
+            }
+        }
+    }
+    eprintln!(
+        "{clean_rigs} unchanged rigs; validator accepts {} (fast path proves {accepted}, \
+         leaves {accepted_unproven} to the validator), rejects {rejected}",
+        accepted + accepted_unproven
+    );
+    for u in &unproven {
+        eprintln!("  left to the validator: {u}");
+    }
+    assert!(rejected > 100 && accepted > 100, "the mix is too one-sided");
+    // What the fast path leaves to the validator by design, only reachable here by
+    // editing the tree (the YAML reader refuses a key written twice) or by numbers
+    // written unusually: a key twice, an integer beyond 64 bits, `2.0` where an integer
+    // is wanted, a float on a bound. A few in a hundred at most.
+    assert!(
+        accepted_unproven * 20 <= accepted + accepted_unproven,
+        "{accepted_unproven} accepted documents left to the validator"
+    );
+}
+
+/// Every YAML file under tests/ and examples/ that reads, with its path.
+fn yaml_files() -> Vec<(String, String)> {
+    let mut out = Vec::new();
+    let mut dirs = vec![
+        std::path::PathBuf::from(concat!(env!("CARGO_MANIFEST_DIR"), "/tests")),
+        std::path::PathBuf::from(concat!(env!("CARGO_MANIFEST_DIR"), "/examples")),
+    ];
+    while let Some(dir) = dirs.pop() {
+        for entry in std::fs::read_dir(&dir).expect("a readable directory") {
+            let path = entry.expect("a directory entry").path();
+            if path.is_dir() {
+                dirs.push(path);
+            } else if path.extension().is_some_and(|e| e == "yaml" || e == "yml")
+                && let Ok(text) = std::fs::read_to_string(&path)
+            {
+                out.push((path.display().to_string(), text));
+            }
+        }
+    }
+    out.sort();
+    out
+}
+
+#[test]
+fn fast_path_agrees_with_the_validator_on_every_rig_in_the_tests_and_examples() {
+    let validator = rig_validator();
+    let (mut files, mut accepted, mut rejected) = (0, 0, 0);
+    let mut unproven = Vec::new();
+    for (path, text) in yaml_files() {
+        let Ok(root) = yaml::parse(0, &text, &LineIndex::new(&text)) else {
+            continue;
+        };
+        files += 1;
+        let (fast, valid) = verdicts(&validator, &root, &text);
+        assert!(
+            !fast || valid,
+            "the fast path says {path} conforms; the validator rejects it"
+        );
+        match (fast, valid) {
+            (_, false) => rejected += 1,
+            (true, true) => accepted += 1,
+            (false, true) => unproven.push(path),
+        }
+    }
+    eprintln!(
+        "{files} files read; validator accepts {}, fast path proves {accepted}; rejects {rejected}",
+        accepted + unproven.len()
+    );
+    assert!(
+        unproven.is_empty(),
+        "accepted but left to the validator: {unproven:#?}"
+    );
+    assert!(
+        accepted > 50 && rejected > 50,
+        "{accepted} accepted, {rejected} rejected"
+    );
+}

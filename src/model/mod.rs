@@ -5,6 +5,7 @@
 //! left out quietly, so one mistake gives one finding.
 
 pub mod build;
+pub mod conform;
 pub mod quantity;
 pub mod schema;
 
