@@ -89,10 +89,12 @@ struct Log<'a> {
     base: &'a Path,
 }
 
-/// The run's `tool`: the driver's name, version and rule table. It depends on nothing
-/// but the build, so it is built once per process and shared by every log written.
-fn tool() -> &'static Value {
-    static TOOL: std::sync::OnceLock<Value> = std::sync::OnceLock::new();
+/// The run's `tool` (the driver's name, version and rule table), already written out.
+/// It depends on nothing but the build, so it is rendered once per process, indented for
+/// its place in the log (`runs[0].tool`, three levels deep), and copied into every log
+/// verbatim: the rule table, with every rule's full help text, is most of a small log.
+fn tool() -> &'static serde_json::value::RawValue {
+    static TOOL: std::sync::OnceLock<Box<serde_json::value::RawValue>> = std::sync::OnceLock::new();
     TOOL.get_or_init(|| {
         let mut driver = Map::new();
         driver.insert("name".into(), json!("foldcheck"));
@@ -106,7 +108,12 @@ fn tool() -> &'static Value {
             "rules".into(),
             Value::Array(RULES.iter().map(|r| rule(r)).collect()),
         );
-        json!({ "driver": driver })
+        let pretty = serde_json::to_string_pretty(&json!({ "driver": driver }))
+            .expect("a JSON value serialises");
+        // The pretty printer indents by two spaces a level; `tool` sits at level 3, so
+        // every line after the first moves right by six spaces.
+        let indented = pretty.replace('\n', "\n      ");
+        serde_json::value::RawValue::from_string(indented).expect("the text is JSON")
     })
 }
 
