@@ -23,8 +23,11 @@ pub(crate) struct Prototype {
     ln_c0: f64,
     /// `ln ω₃`, the −3 dB angular frequency of the delay-normalised prototype.
     ln_omega3: f64,
-    /// Poles `(re, im)` of the magnitude-normalised prototype (cutoff at 1).
-    poles: Vec<(f64, f64)>,
+    /// `ω₃` itself.
+    omega3: f64,
+    /// Poles `(re, im)` of the magnitude-normalised prototype (cutoff at 1), found on
+    /// first use: only phase needs them, and the root finder is most of the cost.
+    poles: OnceLock<Vec<(f64, f64)>>,
 }
 
 impl Prototype {
@@ -47,22 +50,29 @@ impl Prototype {
 
     /// Poles `(re, im)` with the cutoff normalised to 1.
     pub(crate) fn poles(&self) -> &[(f64, f64)] {
-        &self.poles
+        self.poles.get_or_init(|| {
+            let omega3 = self.omega3;
+            let coefficients: Vec<f64> = polynomial(self.order).iter().map(|&v| v as f64).collect();
+            roots(&coefficients)
+                .into_iter()
+                .map(|z| (z.re / omega3, z.im / omega3))
+                .collect()
+        })
     }
 }
 
-/// The prototype of `order` (1 ..= [`MAX_ORDER`]), computed once.
+/// The prototype of `order` (1 ..= [`MAX_ORDER`]), computed once, when first used.
 ///
 /// # Panics
 /// If `order` is 0 or above [`MAX_ORDER`].
 pub(crate) fn prototype(order: u32) -> &'static Prototype {
-    static TABLE: OnceLock<Vec<Prototype>> = OnceLock::new();
+    static TABLE: [OnceLock<Prototype>; MAX_ORDER as usize] =
+        [const { OnceLock::new() }; MAX_ORDER as usize];
     assert!(
         (1..=MAX_ORDER).contains(&order),
         "Bessel order {order} outside 1..={MAX_ORDER}"
     );
-    let table = TABLE.get_or_init(|| (1..=MAX_ORDER).map(build).collect());
-    &table[order as usize - 1]
+    TABLE[order as usize - 1].get_or_init(|| build(order))
 }
 
 /// Exact coefficients `a_k`, `k = 0..=n`, of the reverse Bessel polynomial.
@@ -132,19 +142,14 @@ fn build(order: u32) -> Prototype {
     let w3 = 0.5 * (lo + hi);
     let omega3 = w3.sqrt();
 
-    let coefficients: Vec<f64> = a.iter().map(|&v| v as f64).collect();
-    let poles = roots(&coefficients)
-        .into_iter()
-        .map(|z| (z.re / omega3, z.im / omega3))
-        .collect();
-
     Prototype {
         order,
         rel_to_dc,
         coefficients: c[..order as usize].to_vec(),
         ln_c0: c0.ln(),
         ln_omega3: omega3.ln(),
-        poles,
+        omega3,
+        poles: OnceLock::new(),
     }
 }
 
