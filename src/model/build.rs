@@ -644,17 +644,17 @@ stopband.span, "not below half the input rate",
                 _ => {}
             }
         }
-        // The converter's filter runs at the modulator rate: with a ratio, its stopband
-        // must lie below half of it (with a `rate`, the ratio is known only once the
-        // ADC rate is).
+        // The converter's filter runs at the modulator rate, so its stopband must lie
+        // below half the oversampling ratio. That is checked where the ratio meets the
+        // channels on the module (resolution), the same way for `rate` and
+        // `oversampling-ratio`: the channels are named there and left unanalysed, rather
+        // than analysed without the filter.
         if let Some((_, v)) = self
             .entries(node)
             .iter()
             .find(|(k, _)| k.as_str() == Some("filter"))
         {
-            self.rate_ratio = ratio.as_ref().map(|r| r.value);
             filter = self.filter(v, false);
-            self.rate_ratio = None;
         }
         let rate = match (rate, ratio) {
             (Some(r), None) => ModulatorRate::Rate(r),

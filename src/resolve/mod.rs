@@ -614,12 +614,11 @@ st.factor.span, "rate out of range",
         if modulator_ok
             && let (Some(mi), Some(adc)) = (module, clock.and_then(|k| clocks[k].rate))
             && let Some(md) = &modules[mi].modulator
-            && let ModulatorRate::Rate(r) = &md.rate
             && let Some(Filter {
                 response: Response::Digital { stopband_edge, .. },
                 ..
             }) = &md.filter
-            && *stopband_edge * 2.0 >= to_f64(&(r.value / adc))
+            && *stopband_edge * 2.0 >= oversampling_ratio(md, adc)
         {
             modulator_ok = false;
             let key = (mi, adc);
@@ -779,6 +778,15 @@ md.rate_span(), "not a multiple of the ADC rate",
 /// The references deferred because of a failed include, and the channels they leave
 /// out: a channel with a deferred reference of its own, or whose clock derives from a
 /// clock with a deferred `source`.
+/// The ratio of a modulator's rate to the ADC output rate `adc`: the oversampling ratio
+/// as written, or the written `rate` divided by the ADC rate (NaN when that overflows).
+fn oversampling_ratio(md: &Modulator, adc: Exact) -> f64 {
+    match &md.rate {
+        ModulatorRate::Ratio(k) => k.value as f64,
+        ModulatorRate::Rate(_) => md.rate_for(adc).map_or(f64::NAN, |r| to_f64(&(r / adc))),
+    }
+}
+
 fn unchecked(rig: &Rig, names: &[&Names], defs: &[Channel]) -> Unchecked {
     let deferred: Vec<Span> = names
         .iter()
