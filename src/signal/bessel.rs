@@ -213,6 +213,10 @@ fn roots(coefficients: &[f64]) -> Vec<Complex> {
             Complex::new(radius * angle.cos(), radius * angle.sin())
         })
         .collect();
+    // Stop when the steps are negligible, or when they have stopped shrinking: from
+    // order 5 up they jitter at the rounding floor (1e-15 to 1e-11 of the root) and never
+    // reach 1e-15, and further rounds only move the roots within that floor.
+    let (mut smallest, mut stalled) = (f64::INFINITY, 0);
     for _ in 0..500 {
         let mut largest_step = 0.0_f64;
         for k in 0..n {
@@ -231,7 +235,12 @@ fn roots(coefficients: &[f64]) -> Vec<Complex> {
             z[k] = z[k].sub(step);
             largest_step = largest_step.max(step.abs() / z[k].abs().max(f64::MIN_POSITIVE));
         }
-        if largest_step < 1e-15 {
+        if largest_step < smallest {
+            (smallest, stalled) = (largest_step, 0);
+        } else {
+            stalled += 1;
+        }
+        if largest_step < 1e-15 || stalled >= 8 {
             break;
         }
     }
