@@ -348,18 +348,27 @@ pub fn lint_text_keeping_rig(name: &str, text: &str) -> (Sources, Vec<Finding>, 
 /// "Limits"); tests and the fuzz targets check it.
 pub fn silently_skipped(rig: &Rig, findings: &[Finding]) -> Vec<String> {
     // Channels named only in a failed include's message: the listed names, and how many
-    // more it counts without naming them.
+    // more it counts without naming them. A name is looked up as "`name`" in the list
+    // rather than by splitting the list at backticks: a name that breaks the schema may
+    // hold backticks itself.
     let mut listed: Vec<&str> = Vec::new();
     let mut counted = 0usize;
     for f in findings.iter().filter(|f| f.rule == "include") {
         let Some(total) = f.values.get("unchecked_channels").and_then(|v| v.as_u64()) else {
             continue;
         };
-        let names: Vec<&str> = f
+        let list = f
             .message
             .split_once(" not checked: ")
-            .map(|(_, list)| list.split('`').skip(1).step_by(2).collect())
-            .unwrap_or_default();
+            .map_or("", |(_, list)| list);
+        let mut names: Vec<&str> = rig
+            .channels
+            .iter()
+            .map(|c| c.def.name.value.as_str())
+            .filter(|name| list.contains(&format!("`{name}`")))
+            .collect();
+        names.sort_unstable();
+        names.dedup();
         counted += (total as usize).saturating_sub(names.len());
         listed.extend(names);
     }

@@ -695,6 +695,43 @@ fn channels_named_only_in_a_failed_include_message_are_not_silently_skipped() {
     }
 }
 
+#[test]
+fn a_channel_name_with_backticks_in_a_failed_include_message_is_read_whole() {
+    // Found by the `lint` fuzz target: `silently_skipped` split the include's list of
+    // unchecked channels at backticks, so a name that itself holds a backtick (one the
+    // schema refuses, but still the channel's name) cut the list wrong and the channels
+    // after it looked silently dropped. Minimised input, with `format` and `rig` added.
+    let text = "format: 1\nrig: x\ninclude:\n- m\nchannels:\n  - name: t`\n    clock: H\n  - name: s\n    clock: a\n    band: 2\n";
+    let (_, findings, rig) = foldcheck::campaign::lint_text_keeping_rig(
+        "/nonexistent-foldcheck-trust/backtick.rig.yaml",
+        text,
+    );
+    let rig = rig.expect("the rig reads");
+    let include = findings
+        .iter()
+        .find(|f| f.rule == "include")
+        .expect("the missing include is a finding");
+    assert!(
+        include
+            .message
+            .ends_with("so 2 channels were not checked: `t``, `s`"),
+        "{}",
+        include.message
+    );
+    assert_eq!(
+        foldcheck::campaign::silently_skipped(&rig, &findings),
+        Vec::<String>::new()
+    );
+    // Without the include finding, `s` is skipped silently (`t`` is still named by its
+    // schema findings): the check can fail.
+    let others: Vec<_> = findings
+        .iter()
+        .filter(|f| f.rule != "include")
+        .cloned()
+        .collect();
+    assert_eq!(foldcheck::campaign::silently_skipped(&rig, &others), ["s"]);
+}
+
 // ---- positions (line:col, columns in characters, a BOM is not a column)
 
 #[test]
