@@ -5,8 +5,9 @@
 //! Counts (402 cases in the package):
 //! - 284 valid single-document cases (one `+DOC` in the suite's event tree): 281 are
 //!   read by `foldcheck::source::yaml::parse`; the 3 in [`VALID_REFUSED`] are refused on
-//!   purpose (duplicate keys, binary data). The fast reader takes 206 of them, and for
-//!   every one its tree equals serde-saphyr's exactly (values and spans).
+//!   purpose (duplicate keys, binary data). The fast readers take 206 of them (the
+//!   block-style scanner alone 29), and for every one the tree equals serde-saphyr's
+//!   exactly (values and spans). The scanner declines all 94 invalid cases.
 //! - 94 invalid cases: all 94 give a `yaml-syntax` finding. Three of them (9C9N, QB6E,
 //!   DK95-1) the upstream event parser (granit-parser, under serde-saphyr, which both
 //!   readers use) accepts; our continuation-indentation check refuses them.
@@ -94,7 +95,21 @@ fn the_suite_is_all_there() {
 fn every_valid_single_document_case_reads_the_same_through_both_readers() {
     let mut refused = Vec::new();
     let mut fast_taken = 0;
+    let mut scanner_taken = 0;
     for c in cases().iter().filter(|c| !c.invalid && c.documents == 1) {
+        // The block-style scanner alone, sequentially and cut into parallel runs.
+        for split in [None, Some((0, 1))] {
+            if let Some(tree) = yaml::block_reader(0, &c.yaml, split) {
+                scanner_taken += usize::from(split.is_none());
+                assert_eq!(
+                    Ok(&tree),
+                    yaml::parse_with_serde(0, &c.yaml, &LineIndex::new(&c.yaml)).as_ref(),
+                    "{} ({}): the block-style scanner's tree differs from serde-saphyr's",
+                    c.id,
+                    c.name
+                );
+            }
+        }
         if let Some((fast, full)) = yaml::both_readers(0, &c.yaml) {
             fast_taken += 1;
             assert_eq!(
@@ -114,7 +129,22 @@ fn every_valid_single_document_case_reads_the_same_through_both_readers() {
     assert_eq!(ids, known, "valid cases refused: {refused:#?}");
     // The fast reader takes the plain documents of the suite (no anchors, tags, ...).
     assert!(fast_taken > 0);
-    eprintln!("fast reader took {fast_taken} of the valid single-document cases");
+    assert!(scanner_taken > 0);
+    eprintln!(
+        "fast readers took {fast_taken} of the valid single-document cases, the block-style scanner {scanner_taken}"
+    );
+}
+
+#[test]
+fn the_block_style_scanner_declines_every_invalid_case() {
+    for c in cases().iter().filter(|c| c.invalid) {
+        assert!(
+            yaml::block_reader(0, &c.yaml, None).is_none(),
+            "{} ({}): the block-style scanner takes an invalid document",
+            c.id,
+            c.name
+        );
+    }
 }
 
 #[test]

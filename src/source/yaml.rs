@@ -7,7 +7,10 @@
 use super::{FileId, LineIndex, Span};
 use serde::de::{self, Deserialize, Deserializer, MapAccess, SeqAccess, Visitor};
 use serde_saphyr::Spanned;
+use std::collections::HashSet;
 use std::fmt;
+
+mod scan;
 
 /// The largest number of YAML nodes one file may hold (a 100k-channel rig needs about
 /// 2 million; alias bombs are stopped far earlier by the alias budgets).
@@ -144,7 +147,7 @@ pub struct SyntaxError {
 
 /// Parse one YAML document into a node tree.
 pub fn parse(file: FileId, text: &str, lines: &LineIndex) -> Result<Node, SyntaxError> {
-    let node = match fast::parse(file, text) {
+    let node = match scan::parse(file, text).or_else(|| fast::parse(file, text)) {
         Some(node) => node,
         None => parse_with_serde(file, text, lines)?,
     };
@@ -223,12 +226,53 @@ fn empty_at_start(mut node: Node) -> Node {
 }
 
 /// Both readers on one text, for differential tests and fuzzing: the fast path's tree
-/// and serde-saphyr's, when the fast path takes the document (`None` otherwise).
+/// and serde-saphyr's, when the fast path takes the document (`None` otherwise). The
+/// fast path is the one [`parse`] takes: the block-style scanner when it takes the
+/// document, else the event-based reader.
 #[doc(hidden)]
 pub fn both_readers(file: FileId, text: &str) -> Option<(Node, Result<Node, SyntaxError>)> {
-    let fast = empty_at_start(fast::parse(file, text)?);
+    // The scanner cuts every top-level list into runs of two items here, so that the
+    // fuzz target also checks its parallel reading against serde-saphyr.
+    let fast = scan::parse_with(file, text, Some((0, 2))).or_else(|| fast::parse(file, text))?;
+    let fast = empty_at_start(fast);
     let full = parse_with_serde(file, text, &LineIndex::new(text)).map(empty_at_start);
     Some((fast, full))
+}
+
+/// The block-style scanner alone (`None` when it declines), for tests that compare it
+/// with the other readers and with itself: `split` is `None` to read sequentially, or
+/// the least length of a top-level list read in parallel and the items per task.
+#[doc(hidden)]
+pub fn block_reader(file: FileId, text: &str, split: Option<(usize, usize)>) -> Option<Node> {
+    scan::parse_with(file, text, split).map(empty_at_start)
+}
+
+/// The event-based fast reader alone, for the same tests.
+#[doc(hidden)]
+pub fn event_reader(file: FileId, text: &str) -> Option<Node> {
+    fast::parse(file, text).map(empty_at_start)
+}
+
+/// Whether `key` may be the next key of a mapping holding `entries`, for the fast
+/// readers: a text key (`<<` is a merge key, which serde-saphyr expands) not already
+/// there. Small mappings (nearly all) are searched; a large one gets the set `seen`.
+fn new_text_key(entries: &[(Node, Node)], seen: &mut HashSet<String>, key: &Node) -> bool {
+    const SEARCHED: usize = 16;
+    let Some(k) = key.as_str().filter(|k| *k != "<<") else {
+        return false;
+    };
+    if entries.len() < SEARCHED {
+        return !entries.iter().any(|(e, _)| e.as_str() == Some(k));
+    }
+    if seen.is_empty() {
+        seen.extend(
+            entries
+                .iter()
+                .filter_map(|(e, _)| e.as_str())
+                .map(str::to_string),
+        );
+    }
+    seen.insert(k.to_string())
 }
 
 /// The full reader: serde-saphyr with its budgets, anchors and aliases, merge keys,
@@ -289,7 +333,7 @@ mod fast {
 
     /// The type of a plain scalar, when it is beyond doubt; `None` sends the document to
     /// serde-saphyr (numbers in other notations, `.inf`, `True`, `0x1F`, `1e3` …).
-    fn plain(v: &str) -> Option<NodeKind> {
+    pub(super) fn plain(v: &str) -> Option<NodeKind> {
         match v {
             "" | "~" | "null" | "Null" | "NULL" => return Some(NodeKind::Null),
             "true" => return Some(NodeKind::Bool(true)),
@@ -361,29 +405,9 @@ mod fast {
             }
             Some(Frame::Map { entries, key, .. }) => match key.take() {
                 None => {
-                    // Only text keys; `<<` is a merge key, which serde-saphyr expands.
-                    let Some(k) = node.as_str().filter(|k| *k != "<<") else {
-                        return false;
-                    };
-                    // Small mappings (nearly all) are searched; a large one gets a set.
-                    const SEARCHED: usize = 16;
                     let seen = keys.last_mut().expect("a key set per mapping");
-                    if entries.len() < SEARCHED {
-                        if entries.iter().any(|(e, _)| e.as_str() == Some(k)) {
-                            return false;
-                        }
-                    } else {
-                        if seen.is_empty() {
-                            seen.extend(
-                                entries
-                                    .iter()
-                                    .filter_map(|(e, _)| e.as_str())
-                                    .map(str::to_string),
-                            );
-                        }
-                        if !seen.insert(k.to_string()) {
-                            return false;
-                        }
+                    if !super::new_text_key(entries, seen, &node) {
+                        return false;
                     }
                     *key = Some(node);
                     true
