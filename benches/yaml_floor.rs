@@ -6,6 +6,8 @@
 //!   tree     foldcheck's own YAML front end (`source::yaml::parse`: the tree of spanned
 //!            nodes, built straight from events in the common case): the first stage of
 //!            a lint, and the floor of its design
+//!   scan     the block-style scanner alone (the first reader `parse` tries), failing
+//!            on a file it declines: shows that `tree` timed the scanner
 //!   saphyr   the same tree through serde-saphyr alone (the reader `parse` falls back to)
 //!   events   serde-saphyr's event parser (granit-parser) alone: every event with its
 //!            span, no tree, no serde
@@ -45,6 +47,18 @@ fn yaml_files(root: &Path, out: &mut Vec<PathBuf>) {
 fn tree(text: &str) -> Result<u64, String> {
     let lines = foldcheck::source::LineIndex::new(text);
     let root = foldcheck::source::yaml::parse(0, text, &lines).map_err(|e| e.message)?;
+    Ok(count(&root))
+}
+
+/// The block-style scanner alone, with the parallel reading of a long top-level list
+/// that `parse` uses.
+fn scan(text: &str) -> Result<u64, String> {
+    let split = Some((
+        foldcheck::source::yaml::PARALLEL_BYTES,
+        foldcheck::source::yaml::ITEMS_PER_TASK,
+    ));
+    let root = foldcheck::source::yaml::block_reader(0, text, split)
+        .ok_or_else(|| "the block-style scanner declines this file".to_string())?;
     Ok(count(&root))
 }
 
@@ -119,11 +133,12 @@ fn main() {
         .filter(|a| a != "--bench")
         .collect();
     let Some((mode, paths)) = args.split_first() else {
-        eprintln!("usage: yaml_floor tree|saphyr|events|libyaml PATH...");
+        eprintln!("usage: yaml_floor tree|scan|saphyr|events|libyaml PATH...");
         return;
     };
     let parse: fn(&str) -> Result<u64, String> = match mode.as_str() {
         "tree" => tree,
+        "scan" => scan,
         "saphyr" => saphyr,
         "events" => events,
         "libyaml" => libyaml,

@@ -247,6 +247,11 @@ pub fn block_reader(file: FileId, text: &str, split: Option<(usize, usize)>) -> 
     scan::parse_with(file, text, split).map(empty_at_start)
 }
 
+/// The length of a top-level list from which [`parse`] reads it in parallel, and the
+/// items per task (for the benchmark).
+#[doc(hidden)]
+pub use scan::{ITEMS_PER_TASK, PARALLEL_BYTES};
+
 /// The event-based fast reader alone, for the same tests.
 #[doc(hidden)]
 pub fn event_reader(file: FileId, text: &str) -> Option<Node> {
@@ -342,9 +347,8 @@ mod fast {
         }
         let first = v.as_bytes()[0];
         if first.is_ascii_alphabetic() {
-            let lower = v.to_ascii_lowercase();
             let special = ["null", "true", "false", "yes", "no", "on", "off", "y", "n"];
-            if special.contains(&lower.as_str()) {
+            if v.len() <= 5 && special.iter().any(|s| v.eq_ignore_ascii_case(s)) {
                 return None;
             }
             return Some(NodeKind::Str(v.to_string()));

@@ -30,10 +30,10 @@ const DEPTH: usize = 32;
 
 /// A top-level list whose text is at least this long is read in parallel, a run of its
 /// items per task.
-pub(super) const PARALLEL_BYTES: usize = 1 << 20;
+pub const PARALLEL_BYTES: usize = 1 << 20;
 
 /// Items of a parallel list read by one task (at most).
-const ITEMS_PER_TASK: usize = 2_000;
+pub const ITEMS_PER_TASK: usize = 2_000;
 
 /// The most entries of a flow mapping (on one line) this reader takes; its keys are
 /// searched for duplicates.
