@@ -17,6 +17,9 @@ use std::collections::HashMap;
 use std::path::{Component, Path, PathBuf};
 use std::sync::{Arc, Mutex, OnceLock};
 
+mod rendered;
+pub use rendered::{Render, Rendered, run_rendered};
+
 /// The default largest file foldcheck reads (64 MiB).
 pub const DEFAULT_MAX_FILE_BYTES: u64 = 64 * 1024 * 1024;
 
@@ -150,6 +153,18 @@ pub struct Outcome {
     /// The campaign roots used that no `foldcheck.toml` chose (git work tree's top, the
     /// current directory, …), in first-use order: the human report names them.
     pub roots_without_settings: Vec<CampaignRoot>,
+    /// Findings already rendered and dropped ([`run_rendered`]), kept only as what fix
+    /// verification compares against.
+    pub(crate) ghosts: Vec<Ghost>,
+}
+
+/// What fix verification needs of a finding that was rendered and dropped: its rule,
+/// file and subject (its identity across runs).
+#[derive(Debug)]
+pub(crate) struct Ghost {
+    pub(crate) rule: &'static str,
+    pub(crate) file: FileId,
+    pub(crate) subject: Box<str>,
 }
 
 impl Outcome {
@@ -249,17 +264,30 @@ pub fn run(paths: &[PathBuf], opts: &Options) -> Result<Outcome, Fatal> {
 /// Lint these jobs (no verification of fixes).
 pub(crate) fn run_jobs(jobs: Vec<Job>, opts: &Options) -> Result<Outcome, Fatal> {
     let ctx = Ctx::new(opts);
+    let results = each_job(&jobs, opts, |i, job| {
+        lint_rig(&ctx, job, opts.keep_rigs).map(|mut r| {
+            r.job = i;
+            r
+        })
+    })?;
+    let n = jobs.len();
+    Ok(finish(ctx, results, n, jobs, opts.identity_base.as_deref()))
+}
+
+/// Run `f` on every job in parallel (results in job order), showing progress.
+fn each_job<T: Send>(
+    jobs: &[Job],
+    opts: &Options,
+    f: impl Fn(usize, &Job) -> Result<T, Fatal> + Sync,
+) -> Result<Vec<T>, Fatal> {
     let done = std::sync::atomic::AtomicUsize::new(0);
     let total = jobs.len();
     let show = opts.progress && total >= PROGRESS_FROM;
-    let results: Vec<Result<RigResult, Fatal>> = jobs
+    let results: Vec<Result<T, Fatal>> = jobs
         .par_iter()
         .enumerate()
         .map(|(i, job)| {
-            let r = lint_rig(&ctx, job, opts.keep_rigs).map(|mut r| {
-                r.job = i;
-                r
-            });
+            let r = f(i, job);
             let n = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
             if show && (n.is_multiple_of(25) || n == total) {
                 eprint!("\rfoldcheck: {n}/{total} files");
@@ -270,9 +298,7 @@ pub(crate) fn run_jobs(jobs: Vec<Job>, opts: &Options) -> Result<Outcome, Fatal>
     if show {
         eprint!("\r{}\r", " ".repeat(40));
     }
-    let results = results.into_iter().collect::<Result<Vec<_>, _>>()?;
-    let n = jobs.len();
-    Ok(finish(ctx, results, n, jobs, opts.identity_base.as_deref()))
+    results.into_iter().collect()
 }
 
 /// The rig files under `root` that include `catalog`, as jobs with `like`'s root and
@@ -497,13 +523,7 @@ fn finish(
         let s = file_settings
             .get(&f.primary.span.file)
             .unwrap_or(&default_settings);
-        match s.level(f.rule, f.severity) {
-            Level::Off => false,
-            Level::On(sev) => {
-                f.severity = sev;
-                true
-            }
-        }
+        keep_at_level(s, f)
     });
     dedup(&mut findings);
     let mut extra = Vec::new();
@@ -528,6 +548,18 @@ fn finish(
         overlay: ctx.overlay,
         notes: Vec::new(),
         roots_without_settings: Vec::new(),
+        ghosts: Vec::new(),
+    }
+}
+
+/// Give a finding the severity its settings set; `false` when they turn its rule off.
+fn keep_at_level(s: &Settings, f: &mut Finding) -> bool {
+    match s.level(f.rule, f.severity) {
+        Level::Off => false,
+        Level::On(sev) => {
+            f.severity = sev;
+            true
+        }
     }
 }
 
@@ -975,13 +1007,9 @@ fn load(ctx: &Ctx, path: &Path, display: String, role: Role) -> Result<Loaded, S
 
 /// Parse, check the shape of and build a file already in [`Sources`].
 fn load_added(ctx: &Ctx, file: FileId, role: Role) -> Loaded {
-    // The text is immutable once added; work on a copy of the handle's text.
-    let (text, lines) = {
-        let sources = ctx.sources.lock().expect("no thread panicked");
-        let sf = sources.get(file);
-        (sf.text.clone(), sf.lines.clone())
-    };
-    load_text(file, &text, &lines, role)
+    // The text is immutable once added: share it (a copy would double a large file).
+    let sf = ctx.sources.lock().expect("no thread panicked").shared(file);
+    load_text(file, &sf.text, &sf.lines, role)
 }
 
 fn load_text(file: FileId, text: &str, lines: &LineIndex, role: Role) -> Loaded {
@@ -1088,6 +1116,11 @@ fn lint_loaded(ctx: &Ctx, job: &Job, keep: bool, mut loaded: Loaded) -> RigResul
     docs.extend(catalogs.list.iter().filter_map(|c| c.doc.as_ref()));
     let (rig, resolve_findings, unchecked) =
         resolve::resolve_incomplete(&docs, &job.settings.thresholds, !failed.is_empty());
+    // The resolved rig holds what the rules read: the rig's model is not needed past
+    // here, and dropping it before the analysis keeps the two from being held at once
+    // (they are the largest parts of a large file's run).
+    drop(docs);
+    drop(doc);
     report_unchecked(&mut out, &failed, &unchecked);
     out.extend(resolve_findings);
     // One analysis per channel; rules whose level is `off` are neither computed nor run.
@@ -1107,9 +1140,6 @@ fn lint_loaded(ctx: &Ctx, job: &Job, keep: bool, mut loaded: Loaded) -> RigResul
     };
     out.extend(crate::rules::check_analysis(&analysis, on));
     drop(analysis);
-    // The rig's model is not needed past its rules: dropping it here keeps a campaign's
-    // memory to its texts and findings, not every rig's model at once.
-    drop(doc);
     // Nothing will be rendered from a clean rig: let its text go too (unless the caller
     // keeps the rigs, as `diff` and `inspect` do).
     if !keep && out.is_empty() && loaded.findings.is_empty() && loaded.suppressions.is_empty() {

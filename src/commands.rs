@@ -34,7 +34,23 @@ pub fn run(command: Command) -> Outcome {
                 progress: std::io::stderr().is_terminal(),
                 ..Options::default()
             };
-            let out = campaign::run(&paths, &opts).map_err(|e| fatal(&e, color_for(color)))?;
+            // Each rig's findings are rendered as soon as the rig is finished: the run
+            // keeps their bytes, not the findings.
+            let base = report::sarif::uri_base();
+            let human_color = color_for(color);
+            let render = |sources: &foldcheck::source::Sources,
+                          f: &foldcheck::finding::Finding|
+             -> Option<Vec<u8>> {
+                match format {
+                    CheckFormat::Human => {
+                        human::piece(sources, f, human_color).map(String::into_bytes)
+                    }
+                    CheckFormat::Json => Some(json::finding_text(sources, f)),
+                    CheckFormat::Sarif => Some(report::sarif::result_text(sources, &base, f)),
+                }
+            };
+            let out = campaign::run_rendered(&paths, &opts, &render)
+                .map_err(|e| fatal(&e, color_for(color)))?;
             if out.files == 0 {
                 // Not an error (an empty campaign is clean), but worth saying: a wrong
                 // directory would otherwise look like a clean one.
@@ -50,47 +66,44 @@ pub fn run(command: Command) -> Outcome {
                     root_note(&out.roots_without_settings);
                 }
             }
-            let text = match format {
-                CheckFormat::Human => human::render(
-                    &out.sources,
-                    &out.findings,
-                    out.files,
-                    out.channels,
-                    start.elapsed(),
-                    color_for(color),
-                ),
-                // Streamed straight to stdout as each finding is serialised: the report
-                // is never held in memory whole.
-                CheckFormat::Json => {
-                    use std::io::Write as _;
-                    let mut w = std::io::BufWriter::new(std::io::stdout().lock());
-                    match json::write(&mut w, &out.sources, &out.findings, out.files, out.channels)
-                        .and_then(|()| w.flush())
-                    {
-                        Ok(()) => String::new(),
-                        Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => String::new(),
-                        Err(e) => return Err(format!("foldcheck: cannot write the output: {e}")),
+            // Streamed to stdout piece by piece: the report is never held whole.
+            let written = {
+                use std::io::Write as _;
+                let mut w = std::io::BufWriter::new(std::io::stdout().lock());
+                match format {
+                    CheckFormat::Human => {
+                        out.pieces()
+                            .try_for_each(|p| w.write_all(p))
+                            .and_then(|()| {
+                                w.write_all(
+                                    human::summary_of(
+                                        out.counts,
+                                        out.files,
+                                        out.channels,
+                                        start.elapsed(),
+                                    )
+                                    .as_bytes(),
+                                )
+                            })
                     }
-                }
-                // Streamed straight to stdout as each result is serialised.
-                CheckFormat::Sarif => {
-                    use std::io::Write as _;
-                    let mut w = std::io::BufWriter::new(std::io::stdout().lock());
-                    match report::sarif::write(
+                    CheckFormat::Json => json::write_pieces(
                         &mut w,
-                        &out.sources,
-                        &out.findings,
-                        &report::sarif::uri_base(),
-                    )
-                    .and_then(|()| w.flush())
-                    {
-                        Ok(()) => String::new(),
-                        Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => String::new(),
-                        Err(e) => return Err(format!("foldcheck: cannot write the output: {e}")),
-                    }
+                        out.pieces(),
+                        out.files,
+                        out.channels,
+                        out.counts,
+                    ),
+                    CheckFormat::Sarif => report::sarif::write_pieces(&mut w, out.pieces(), &base),
                 }
+                .and_then(|()| w.flush())
             };
-            let code = u8::from(Counts::of(&out.findings).reaches(severity(fail_on)));
+            match written {
+                Ok(()) => {}
+                Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => {}
+                Err(e) => return Err(format!("foldcheck: cannot write the output: {e}")),
+            }
+            let text = String::new();
+            let code = u8::from(out.counts.reaches(severity(fail_on)));
             Ok((text, code))
         }
         // The protocol's exit status: 0 after `shutdown` then `exit`, 1 after `exit` alone.

@@ -183,6 +183,28 @@ fn verify_where(
     max_file_bytes: u64,
     chosen: impl Fn(&[usize]) -> bool,
 ) -> Vec<usize> {
+    verify_inner(out, max_file_bytes, chosen, false)
+        .expect("a whole run's verification is never left undecided")
+}
+
+/// Verify the fixes of a run that holds one rig of a larger campaign, before the other
+/// rigs are done (`check` finishing each rig as it is linted). Only edits to the rig's own
+/// file are tried, and a verdict is taken only when the rig's own findings decide it:
+/// when a re-lint adds a finding in another file (a shared catalog, whose findings
+/// before the edit are only known once every rig is done), nothing is changed and
+/// `false` is returned, and the rig is finished with the campaign instead.
+pub(crate) fn verify_own_rig(out: &mut Outcome, max_file_bytes: u64) -> bool {
+    verify_inner(out, max_file_bytes, |_| true, true).is_some()
+}
+
+/// Work out every verdict first, then apply them; `None` (nothing applied) when a
+/// `partial` run met a verdict its findings cannot decide.
+fn verify_inner(
+    out: &mut Outcome,
+    max_file_bytes: u64,
+    chosen: impl Fn(&[usize]) -> bool,
+    partial: bool,
+) -> Option<Vec<usize>> {
     let mut groups: BTreeMap<Vec<PathEdit>, Vec<usize>> = BTreeMap::new();
     let mut unusable = Vec::new();
     for (i, f) in out.findings.iter().enumerate() {
@@ -194,24 +216,26 @@ fn verify_where(
         }
     }
     let mut done: Vec<usize> = Vec::new();
-    for i in unusable {
-        if chosen(&[i]) {
-            out.findings[i].drop_fix();
-            done.push(i);
-        }
-    }
+    let unusable: Vec<usize> = unusable.into_iter().filter(|&i| chosen(&[i])).collect();
+    done.extend(&unusable);
     groups.retain(|_, members| chosen(members));
     done.extend(groups.values().flatten().copied());
-    if groups.is_empty() {
-        return done;
-    }
-    let ctx = VerifyCtx::new(out, max_file_bytes);
     let groups: Vec<(Vec<PathEdit>, Vec<usize>)> = groups.into_iter().collect();
-    let batches = batches(&groups);
-    let mut verdicts: Vec<(usize, Verdict)> = batches
-        .par_iter()
-        .flat_map_iter(|b| ctx.verify_batch(&groups, b))
-        .collect();
+    let mut verdicts: Vec<(usize, Verdict)> = Vec::new();
+    if !groups.is_empty() {
+        let ctx = VerifyCtx::new(out, max_file_bytes, partial);
+        let batches = batches(&groups);
+        verdicts = batches
+            .par_iter()
+            .flat_map_iter(|b| ctx.verify_batch(&groups, b))
+            .collect();
+        if ctx.undecided.load(std::sync::atomic::Ordering::Relaxed) {
+            return None;
+        }
+    }
+    for i in unusable {
+        out.findings[i].drop_fix();
+    }
     verdicts.sort_by_key(|(g, _)| *g);
     for (g, v) in verdicts {
         for &i in &groups[g].1 {
@@ -243,7 +267,7 @@ fn verify_where(
             }
         }
     }
-    done
+    Some(done)
 }
 
 /// Edit sets that can be tried together: the sets that edit only one file (a rig's own
@@ -299,10 +323,15 @@ struct VerifyCtx<'a> {
     /// For each edited catalog: rigs under the root that include it but were not linted
     /// in this run, with the identities of their findings before the edit.
     extra: Mutex<HashMap<PathBuf, Arc<Extra>>>,
+    /// See [`verify_own_rig`]: a re-lint that adds a finding outside the run's rig files
+    /// leaves the verdict undecided.
+    partial: bool,
+    /// Set when a `partial` verdict could not be decided.
+    undecided: std::sync::atomic::AtomicBool,
 }
 
 impl<'a> VerifyCtx<'a> {
-    fn new(out: &'a Outcome, max_file_bytes: u64) -> Self {
+    fn new(out: &'a Outcome, max_file_bytes: u64, partial: bool) -> Self {
         let path_of = |id: FileId| absolute(&out.sources.get(id).path);
         let rig_files: Vec<(usize, Vec<PathBuf>)> = out
             .rigs
@@ -328,6 +357,8 @@ impl<'a> VerifyCtx<'a> {
             texts,
             abs,
             extra: Mutex::new(HashMap::new()),
+            partial,
+            undecided: std::sync::atomic::AtomicBool::new(false),
         }
     }
 
@@ -390,6 +421,9 @@ impl<'a> VerifyCtx<'a> {
         groups: &[(Vec<PathEdit>, Vec<usize>)],
         members: &[usize],
     ) -> Vec<(usize, Verdict)> {
+        if self.undecided.load(std::sync::atomic::Ordering::Relaxed) {
+            return Vec::new(); // the whole run is finished later: stop trying
+        }
         let mut key: Vec<PathEdit> = members
             .iter()
             .flat_map(|&g| groups[g].0.iter().cloned())
@@ -482,6 +516,21 @@ impl<'a> VerifyCtx<'a> {
             .filter(|f| files.contains(&self.abs[f.primary.span.file as usize]))
             .map(|f| identity(&self.out.sources, f, Some(&shift)))
             .collect();
+        // Findings already rendered (a rig finished before the campaign): each has its
+        // subject, so its identity does not move with an edit.
+        before.extend(
+            self.out
+                .ghosts
+                .iter()
+                .filter(|g| files.contains(&self.abs[g.file as usize]))
+                .map(|g| {
+                    Identity(
+                        g.rule,
+                        self.abs[g.file as usize].clone(),
+                        format!("subject:{}", g.subject),
+                    )
+                }),
+        );
         if !catalogs.is_empty() {
             let linted: HashSet<PathBuf> = self.out.jobs.iter().map(campaign::job_file).collect();
             let like = &self.out.jobs[first.0];
@@ -519,12 +568,26 @@ impl<'a> VerifyCtx<'a> {
             .iter()
             .map(|f| identity(&after.sources, f, None))
             .collect();
-        let added = after.findings.iter().any(|f| {
+        let mut added = after.findings.iter().filter(|f| {
             f.severity >= Severity::Warning
                 && f.suppressed.is_none()
                 && !before.contains(&identity(&after.sources, f, None))
         });
-        if added {
+        if self.partial {
+            // Only a finding in the rig's own file is known to be new.
+            let (own, other): (Vec<&Finding>, Vec<&Finding>) = added.partition(|f| {
+                self.rig_paths
+                    .contains(&absolute(&after.sources.get(f.primary.span.file).path))
+            });
+            if !own.is_empty() {
+                return None;
+            }
+            if !other.is_empty() {
+                self.undecided
+                    .store(true, std::sync::atomic::Ordering::Relaxed);
+                return None;
+            }
+        } else if added.next().is_some() {
             return None;
         }
         let keep: Vec<usize> = idxs

@@ -458,7 +458,11 @@ pub fn render_finding(sources: &Sources, f: &Finding, color: Color) -> String {
 
 /// The summary line: counts by severity, files, channels, elapsed time.
 pub fn summary(findings: &[Finding], files: usize, channels: usize, elapsed: Duration) -> String {
-    let c = Counts::of(findings);
+    summary_of(Counts::of(findings), files, channels, elapsed)
+}
+
+/// [`summary`] from the counts.
+pub fn summary_of(c: Counts, files: usize, channels: usize, elapsed: Duration) -> String {
     let suppressed = if c.suppressed > 0 {
         format!(" ({} suppressed)", c.suppressed)
     } else {
@@ -485,12 +489,24 @@ pub fn render(
     color: Color,
 ) -> String {
     let mut out = String::new();
-    for f in findings.iter().filter(|f| f.suppressed.is_none()) {
-        out.push_str(&render_finding(sources, f, color));
-        out.push('\n');
+    for f in findings {
+        if let Some(p) = piece(sources, f, color) {
+            out.push_str(&p);
+        }
     }
     out.push_str(&summary(findings, files, channels, elapsed));
     out
+}
+
+/// What one finding adds to the human report: its rendering and a blank line, or
+/// nothing when it is suppressed.
+pub fn piece(sources: &Sources, f: &Finding, color: Color) -> Option<String> {
+    if f.suppressed.is_some() {
+        return None;
+    }
+    let mut out = render_finding(sources, f, color);
+    out.push('\n');
+    Some(out)
 }
 
 #[cfg(test)]

@@ -95,29 +95,45 @@ pub fn write<W: std::io::Write>(
     files: usize,
     channels: usize,
 ) -> std::io::Result<()> {
-    let c = Counts::of(findings);
+    let pieces = findings.iter().map(|f| finding_text(sources, f));
+    write_pieces(w, pieces, files, channels, Counts::of(findings))
+}
+
+/// One finding as it stands in the report's `findings` list (indented, no separator).
+pub fn finding_text(sources: &Sources, f: &Finding) -> Vec<u8> {
+    let text = serde_json::to_string_pretty(&finding(sources, f)).expect("JSON values serialise");
+    let mut out = Vec::with_capacity(text.len() + 64);
+    // Pretty JSON never holds a raw line break inside a string: indent by lines.
+    for (k, line) in text.lines().enumerate() {
+        if k > 0 {
+            out.push(b'\n');
+        }
+        out.extend_from_slice(b"    ");
+        out.extend_from_slice(line.as_bytes());
+    }
+    out
+}
+
+/// The whole report from findings already turned into text ([`finding_text`]), in
+/// output order, and the counts of all findings.
+pub fn write_pieces<W: std::io::Write, P: AsRef<[u8]>>(
+    w: &mut W,
+    pieces: impl IntoIterator<Item = P>,
+    files: usize,
+    channels: usize,
+    c: Counts,
+) -> std::io::Result<()> {
     write!(
         w,
         "{{\n  \"version\": 1,\n  \"files\": {files},\n  \"channels\": {channels},\n  \"findings\": ["
     )?;
-    for (i, f) in findings.iter().enumerate() {
-        w.write_all(if i == 0 { b"\n" } else { b",\n" })?;
-        let text =
-            serde_json::to_string_pretty(&finding(sources, f)).expect("JSON values serialise");
-        // Pretty JSON never holds a raw line break inside a string: indent by lines.
-        for (k, line) in text.lines().enumerate() {
-            if k > 0 {
-                w.write_all(b"\n")?;
-            }
-            w.write_all(b"    ")?;
-            w.write_all(line.as_bytes())?;
-        }
+    let mut empty = true;
+    for p in pieces {
+        w.write_all(if empty { b"\n" } else { b",\n" })?;
+        w.write_all(p.as_ref())?;
+        empty = false;
     }
-    w.write_all(if findings.is_empty() {
-        b"],\n"
-    } else {
-        b"\n  ],\n"
-    })?;
+    w.write_all(if empty { b"],\n" } else { b"\n  ],\n" })?;
     write!(
         w,
         "  \"summary\": {{\n    \"error\": {},\n    \"warning\": {},\n    \"note\": {}\n  }}\n}}\n",

@@ -73,12 +73,56 @@ pub fn write<W: Write>(
     findings: &[Finding],
     base: &Path,
 ) -> std::io::Result<()> {
+    let pieces = findings.iter().map(|f| result_text(sources, base, f));
+    write_pieces(out, pieces, base)
+}
+
+/// How deep a result sits in the log (`runs`, the run, `results`): 8 spaces.
+const RESULT_INDENT: &[u8] = b"        ";
+
+/// One result as it stands in the log's `results` list (indented, no separator).
+pub fn result_text(sources: &Sources, base: &Path, f: &Finding) -> Vec<u8> {
+    let text =
+        serde_json::to_string_pretty(&result(sources, base, f)).expect("JSON values serialise");
+    let mut out = Vec::with_capacity(text.len() + 256);
+    // Pretty JSON never holds a raw line break inside a string: indent by lines.
+    for (k, line) in text.lines().enumerate() {
+        if k > 0 {
+            out.push(b'\n');
+        }
+        out.extend_from_slice(RESULT_INDENT);
+        out.extend_from_slice(line.as_bytes());
+    }
+    out
+}
+
+/// The log from results already turned into text ([`result_text`]), in output order.
+pub fn write_pieces<W: Write, P: AsRef<[u8]>>(
+    out: &mut W,
+    pieces: impl IntoIterator<Item = P>,
+    base: &Path,
+) -> std::io::Result<()> {
+    // The log around an empty result list, split where the results go.
     let log = Log {
-        sources,
-        findings,
+        sources: &Sources::new(),
+        findings: &[],
         base,
     };
-    serde_json::to_writer_pretty(&mut *out, &log).map_err(std::io::Error::from)?;
+    let frame = serde_json::to_string_pretty(&log).map_err(std::io::Error::from)?;
+    const EMPTY: &str = "\"results\": []";
+    let at = frame.rfind(EMPTY).expect("the log has a result list") + EMPTY.len() - 1;
+    let (head, tail) = frame.split_at(at);
+    out.write_all(head.as_bytes())?;
+    let mut empty = true;
+    for p in pieces {
+        out.write_all(if empty { b"\n" } else { b",\n" })?;
+        out.write_all(p.as_ref())?;
+        empty = false;
+    }
+    if !empty {
+        out.write_all(b"\n      ")?;
+    }
+    out.write_all(tail.as_bytes())?;
     out.write_all(b"\n")
 }
 

@@ -266,10 +266,11 @@ impl SourceFile {
     }
 }
 
-/// All files read in one run; spans refer into it by [`FileId`].
-#[derive(Debug, Default)]
+/// All files read in one run; spans refer into it by [`FileId`]. Cloning is cheap (the
+/// files are shared): a thread takes a snapshot to render from without holding a lock.
+#[derive(Debug, Default, Clone)]
 pub struct Sources {
-    files: Vec<SourceFile>,
+    files: Vec<std::sync::Arc<SourceFile>>,
 }
 
 impl Sources {
@@ -282,13 +283,13 @@ impl Sources {
     pub fn add(&mut self, path: &Path, display: String, text: String) -> FileId {
         let id = FileId::try_from(self.files.len()).expect("fewer than 2^32 files");
         let lines = LineIndex::new(&text);
-        self.files.push(SourceFile {
+        self.files.push(std::sync::Arc::new(SourceFile {
             id,
             path: path.to_path_buf(),
             display,
             text,
             lines,
-        });
+        }));
         id
     }
 
@@ -297,8 +298,13 @@ impl Sources {
     /// Its id, path and display name stay.
     pub fn release_text(&mut self, id: FileId) {
         if let Some(f) = self.files.get_mut(id as usize) {
-            f.text = String::new();
-            f.lines = LineIndex::new("");
+            *f = std::sync::Arc::new(SourceFile {
+                id: f.id,
+                path: f.path.clone(),
+                display: f.display.clone(),
+                text: String::new(),
+                lines: LineIndex::new(""),
+            });
         }
     }
 
@@ -307,9 +313,15 @@ impl Sources {
         &self.files[id as usize]
     }
 
+    /// The file with this id, shared (to read it without holding whatever guards the
+    /// set).
+    pub fn shared(&self, id: FileId) -> std::sync::Arc<SourceFile> {
+        self.files[id as usize].clone()
+    }
+
     /// All files, in the order they were added.
     pub fn iter(&self) -> impl Iterator<Item = &SourceFile> {
-        self.files.iter()
+        self.files.iter().map(|f| &**f)
     }
 
     /// Number of files.
