@@ -54,7 +54,8 @@ pub fn check(root: &Node, text: &str) -> Vec<Finding> {
         ];
     }
     // The clean path: a document shown to conform needs neither the validator (built on
-    // first use) nor the copy of its tree into JSON.
+    // first use) nor the copy of its tree into JSON. Nothing below this line runs for such
+    // a document: a check that is not a JSON Schema keyword belongs elsewhere.
     if super::conform::surely_conforms(root) {
         return Vec::new();
     }
