@@ -178,12 +178,12 @@ fn continuation_indent(text: &str, node: &Node) -> Result<(), SyntaxError> {
         0
     };
     let indent = start - line_start - bom;
-    let children: Vec<&Node> = match &node.kind {
-        NodeKind::Map(entries) => entries.iter().flat_map(|(k, v)| [k, v]).collect(),
-        NodeKind::Seq(items) => items.iter().collect(),
-        _ => Vec::new(),
+    let (entries, items): (&[(Node, Node)], &[Node]) = match &node.kind {
+        NodeKind::Map(entries) => (entries, &[]),
+        NodeKind::Seq(items) => (&[], items),
+        _ => (&[], &[]),
     };
-    for child in children {
+    for child in entries.iter().flat_map(|(k, v)| [k, v]).chain(items) {
         if block(child) {
             continuation_indent(text, child)?;
             continue;

@@ -155,10 +155,14 @@ impl<'a> Scanner<'a> {
 
     /// The position of the line break ending the line holding `i` (or the text's end).
     fn line_end(&self, i: usize) -> usize {
-        self.b[i.min(self.b.len())..]
-            .iter()
-            .position(|&c| c == b'\n')
-            .map_or(self.b.len(), |k| i + k)
+        let i = i.min(self.b.len());
+        // `str::find` of one byte's character searches with memchr; every position
+        // asked about here is a character boundary (after ASCII or at a line start).
+        let found = match self.text.get(i..) {
+            Some(rest) => rest.find('\n'),
+            None => self.b[i..].iter().position(|&c| c == b'\n'),
+        };
+        found.map_or(self.b.len(), |k| i + k)
     }
 
     /// After a token ending at `i`: spaces, perhaps a comment after a space, then the
