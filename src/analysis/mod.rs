@@ -37,7 +37,7 @@
 pub mod fixes;
 
 use crate::model::quantity::{Exact, exact_decimal, to_f64};
-use crate::resolve::chain::Chain;
+use crate::resolve::chain::{Chain, FilterName};
 use crate::resolve::{RChannel, Rig};
 use crate::signal::fold::fold;
 use crate::source::Span;
@@ -597,8 +597,9 @@ pub struct StageInfo {
     pub input_rate_hz: Option<f64>,
     /// Output rate, exact.
     pub rate: Exact,
-    /// The stage's own filter (None for the ADC, or plain down-sampling).
-    pub filter: Option<String>,
+    /// The stage's own filter (None for the ADC, or plain down-sampling); its
+    /// `describe()` names it.
+    pub filter: Option<crate::model::Response>,
     /// Output rate ÷ band, exact when it fits.
     pub ratio_exact: Option<Exact>,
     /// Output rate ÷ band.
@@ -690,7 +691,7 @@ pub struct AliasCheck {
     /// Attenuation of the chain up to this rate change there, dB (may be infinite).
     pub attenuation_db: f64,
     /// Each filter's share, named by its place in the chain.
-    pub contributions: Vec<(String, f64)>,
+    pub contributions: Vec<(FilterName, f64)>,
     /// Required rejection, dB.
     pub required_db: f64,
     /// attenuation ≥ required.
@@ -787,7 +788,7 @@ pub struct PassbandInfo {
     /// dB.
     pub attenuation_db: f64,
     /// Each filter's share, named by its place in the chain.
-    pub contributions: Vec<(String, f64)>,
+    pub contributions: Vec<(FilterName, f64)>,
     /// The filter that attenuates the band edge most ("channel filter: 4th-order …"),
     /// where it is written, its response and rates: the cause a droop finding points
     /// at.
@@ -1005,18 +1006,15 @@ fn rates_with(
         .sensor
         .and_then(|s| rig.sensors[s].resonance.as_ref())
         .map(|r| (r.frequency.value, r.gain.value));
-    let contributions = |f: f64, k: usize| -> Vec<(String, f64)> {
+    // Each filter's share, named when shown (no text is built here).
+    let named = |list: &[crate::resolve::chain::Contribution]| -> Vec<(FilterName, f64)> {
+        list.iter().map(|c| (c.name(), c.db)).collect()
+    };
+    let contributions = |f: f64, k: usize| -> Vec<(FilterName, f64)> {
         if !detail {
             return Vec::new();
         }
-        chain
-            .contributions(f, k)
-            .into_iter()
-            .map(|c| {
-                let name = format!("{}: {}", c.place.name(), c.response.describe());
-                (name, c.db)
-            })
-            .collect()
+        named(&chain.contributions(f, k))
     };
 
     let mut stages = Vec::with_capacity(chain.changes.len());
@@ -1071,11 +1069,7 @@ fn rates_with(
             factor: rc.factor,
             input_rate_hz: rc.fs_in.as_ref().map(to_f64),
             rate: rc.fs,
-            filter: rc
-                .filter
-                .as_ref()
-                .filter(|_| detail)
-                .map(|f| f.response.describe()),
+            filter: rc.filter.filter(|_| detail).map(|f| f.response.clone()),
             ratio_exact: rc.fs.checked_div(&band),
             ratio: fs / band_hz,
             nyquist_ok,
@@ -1168,17 +1162,15 @@ fn rates_with(
     let passband = enabled.has(RateRule::PassbandDroop).then(|| {
         let droop = chain.attenuation_db(band_hz, last);
         let tolerance = limits.passband_tolerance;
+        let all = if detail {
+            chain.contributions(band_hz, last)
+        } else {
+            Vec::new()
+        };
         PassbandInfo {
             attenuation_db: droop,
-            contributions: contributions(band_hz, last),
-            largest: if detail {
-                chain
-                    .contributions(band_hz, last)
-                    .into_iter()
-                    .max_by(|x, y| x.db.total_cmp(&y.db))
-            } else {
-                None
-            },
+            contributions: named(&all),
+            largest: all.into_iter().max_by(|x, y| x.db.total_cmp(&y.db)),
             tolerance_db: tolerance,
             pass: droop <= tolerance + 1e-9,
         }

@@ -90,6 +90,7 @@
 
 use super::{DelayInfo, DisturbanceOutcome, Inspection};
 use crate::model::quantity::to_f64;
+use crate::resolve::chain::FilterName;
 use crate::words::{exact_string, finite};
 use serde_json::{Value, json};
 
@@ -97,10 +98,10 @@ fn num(x: f64) -> Value {
     Value::from(finite(x))
 }
 
-fn contributions(list: &[(String, f64)]) -> Value {
+fn contributions(list: &[(FilterName, f64)]) -> Value {
     Value::Array(
         list.iter()
-            .map(|(what, db)| json!({ "what": what, "attenuation_db": num(*db) }))
+            .map(|(what, db)| json!({ "what": what.to_string(), "attenuation_db": num(*db) }))
             .collect(),
     )
 }
@@ -113,7 +114,7 @@ fn stage_delays(d: &DelayInfo, stage: usize) -> Value {
             .filter(|sd| sd.stage == stage)
             .map(|sd| {
                 json!({
-                    "filter": sd.what,
+                    "filter": sd.what.to_string(),
                     "delay_s": sd.delay_s.map(num),
                     "samples": sd.samples.map(|(n, _)| num(n)),
                     "samples_rate_hz": sd.samples.map(|(_, r)| num(r)),
@@ -196,7 +197,7 @@ pub fn render(ins: &Inspection, plot: Option<&str>) -> String {
                     "input_rate_hz": s.input_rate_hz.map(num),
                     "rate_hz": num(s.rate_hz()),
                     "rate_exact_hz": exact_string(&s.rate),
-                    "filter": s.filter,
+                    "filter": s.filter.as_ref().map(|f| f.describe()),
                     "ratio": num(s.ratio),
                     "nyquist": s.nyquist_ok,
                     "margin": s.margin.map(|(m, pass)| json!({ "value": num(m), "pass": pass })),

@@ -1,6 +1,7 @@
 //! The human form of `inspect`: plain text, one fact a line, the numbers with units.
 
 use super::{ClockInfo, DelayInfo, DisturbanceOutcome, Inspection, StageInfo, image_name};
+use crate::resolve::chain::FilterName;
 use crate::words::{
     db_text, exact_suffix, format_bytes, format_db, format_hz, format_seconds, rate_text, sig6,
 };
@@ -424,9 +425,9 @@ fn stage(out: &mut String, s: &StageInfo, b: f64) {
     if s.stage == 0 {
         let _ = writeln!(out, "ADC at {}{exact}", format_hz(fs));
     } else {
-        let filter = s.filter.as_deref().map_or_else(
+        let filter = s.filter.as_ref().map_or_else(
             || "no filter: plain down-sampling".to_string(),
-            |f| format!("with a {f}"),
+            |f| format!("with a {}", f.describe()),
         );
         let _ = writeln!(
             out,
@@ -526,7 +527,7 @@ fn stage(out: &mut String, s: &StageInfo, b: f64) {
             "folds from",
             &image_name(m.fold_from_hz, *fmod, b, "f_mod"),
         );
-        let analog: Vec<&(String, f64)> = m
+        let analog: Vec<&(FilterName, f64)> = m
             .contributions
             .iter()
             .filter(|(_, db)| *db != 0.0)

@@ -176,7 +176,7 @@ fn channel(snap: &Snapshot, ri: usize, ci: usize, stage: Option<usize>) -> Strin
             rate_text(&s.rate),
             s.filter
                 .as_ref()
-                .map(|f| format!(", filter: {f}"))
+                .map(|f| format!(", filter: {}", f.describe()))
                 .unwrap_or_else(|| ", no filter (plain down-sampling)".to_string())
         ));
     }
@@ -347,7 +347,11 @@ fn filter(snap: &Snapshot, ri: usize, ci: Option<usize>, f: &Filter) -> String {
     ));
     for s in &a.stages {
         let Some(al) = &s.alias else { continue };
-        if let Some((_, db)) = al.contributions.iter().find(|(w, _)| w.ends_with(&d)) {
+        if let Some((_, db)) = al
+            .contributions
+            .iter()
+            .find(|(w, _)| w.to_string().ends_with(&d))
+        {
             out.push_str(&format!(
                 "- at {} ({}): {} of the chain's {} ({} required)\n",
                 format_hz(al.fold_from_hz),
@@ -362,7 +366,7 @@ fn filter(snap: &Snapshot, ri: usize, ci: Option<usize>, f: &Filter) -> String {
         .passband
         .iter()
         .flat_map(|p| p.contributions.iter())
-        .find(|(w, _)| w.ends_with(&d))
+        .find(|(w, _)| w.to_string().ends_with(&d))
     {
         out.push_str(&format!(
             "- at the band edge {}: {} of droop\n",

@@ -11,7 +11,7 @@ use num_traits::CheckedDiv;
 
 /// One rate change: the ADC (stage 0) or a decimation stage (k ≥ 1).
 #[derive(Clone, Debug)]
-pub struct RateChange {
+pub struct RateChange<'a> {
     /// 0 for the ADC, k for the k-th decimation stage.
     pub stage: usize,
     /// Output rate, exact.
@@ -22,11 +22,12 @@ pub struct RateChange {
     pub factor: u32,
     /// The YAML that sets this rate: the channel's `clock` or the stage's `factor`.
     pub span: Span,
-    /// The stage's digital filter, if any.
-    pub filter: Option<Filter>,
+    /// The stage's digital filter, if any (borrowed from the channel: building a chain
+    /// copies no filter).
+    pub filter: Option<&'a Filter>,
 }
 
-impl RateChange {
+impl RateChange<'_> {
     /// Output rate in Hz.
     pub fn fs_hz(&self) -> f64 {
         to_f64(&self.fs)
@@ -100,7 +101,7 @@ pub struct Chain<'a> {
     /// The channel.
     pub channel: &'a RChannel,
     /// Its rate changes, ADC first.
-    pub changes: Vec<RateChange>,
+    pub changes: Vec<RateChange<'a>>,
 }
 
 /// Where a filter sits in a chain (decided by where it is written, never by its label).
@@ -138,11 +139,27 @@ impl FilterPlace {
     }
 }
 
+/// A filter named by its place in a chain, as `inspect` and the editor show it
+/// ("decimation stage 1: 5th-order sinc", "channel filter: 4th-order Butterworth at
+/// 20 kHz"). The text is made only when it is shown (`Display`): analysing a channel
+/// builds none.
+#[derive(Clone, Debug, PartialEq)]
+pub struct FilterName {
+    /// Where the filter sits.
+    pub place: FilterPlace,
+    /// Its response.
+    pub response: Response,
+}
+
+impl std::fmt::Display for FilterName {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(f, "{}: {}", self.place.name(), self.response.describe())
+    }
+}
+
 /// One contribution to a chain's attenuation, for `inspect`.
 #[derive(Clone, Debug)]
 pub struct Contribution {
-    /// What it is ("channel filter: 4th-order Butterworth at 20 kHz").
-    pub what: String,
     /// Where the filter sits in the chain.
     pub place: FilterPlace,
     /// Where the filter is written.
@@ -153,6 +170,21 @@ pub struct Contribution {
     pub response: Response,
     /// Where it is placed (its rates).
     pub placement: Placement,
+}
+
+impl Contribution {
+    /// What it is ("channel filter: 4th-order Butterworth at 20 kHz"), made when asked.
+    pub fn what(&self) -> String {
+        format!("{}: {}", self.place.short(), self.response.describe())
+    }
+
+    /// The filter named by its place ("decimation stage 2: …" for a stage's filter).
+    pub fn name(&self) -> FilterName {
+        FilterName {
+            place: self.place,
+            response: self.response.clone(),
+        }
+    }
 }
 
 impl<'a> Chain<'a> {
@@ -188,7 +220,7 @@ impl<'a> Chain<'a> {
                 fs_in: Some(fs),
                 factor: st.factor.value,
                 span: st.factor.span,
-                filter: st.filter.clone(),
+                filter: st.filter.as_ref(),
             });
             fs = next;
         }
@@ -308,7 +340,6 @@ impl<'a> Chain<'a> {
         self.filters_upto(upto, None)
             .into_iter()
             .map(|(flt, at, place)| Contribution {
-                what: format!("{}: {}", place.short(), flt.response.describe()),
                 place,
                 span: flt.span,
                 db: filter_attenuation_db(&flt.response, f, at),
@@ -350,18 +381,21 @@ impl<'a> Chain<'a> {
     pub fn digital_delays(&self) -> Vec<StageDelay> {
         let mut v = Vec::new();
         let fs0 = to_f64(&self.adc_rate());
-        let origin = self.channel.filters_origin.place();
+        let origin = FilterPlace::Front(self.channel.filters_origin);
         let adc_filters = self.channel.filters.iter().map(|f| (f, origin)).chain(
             self.modulator()
                 .and_then(|m| m.filter.as_ref())
-                .map(|f| (f, "converter filter")),
+                .map(|f| (f, FilterPlace::Converter)),
         );
         for (f, place) in adc_filters {
             if let Response::Digital { delay, .. } = &f.response {
                 v.push(StageDelay {
                     stage: 0,
                     filter: f.span,
-                    what: format!("{place}: {}", f.response.describe()),
+                    what: FilterName {
+                        place,
+                        response: f.response.clone(),
+                    },
                     delay_s: delay.map(|d| d.seconds(fs0)),
                     samples: delay.map(|d| (d.seconds(fs0) * fs0, fs0)),
                 });
@@ -385,7 +419,10 @@ impl<'a> Chain<'a> {
             v.push(StageDelay {
                 stage: rc.stage,
                 filter: f.span,
-                what: format!("decimation stage {}: {}", rc.stage, f.response.describe()),
+                what: FilterName {
+                    place: FilterPlace::Stage(rc.stage),
+                    response: f.response.clone(),
+                },
                 delay_s,
                 samples,
             });
@@ -628,8 +665,8 @@ pub struct StageDelay {
     pub stage: usize,
     /// The filter's mapping.
     pub filter: Span,
-    /// The filter, named by its place ("decimation stage 1: 5th-order sinc").
-    pub what: String,
+    /// The filter, named by its place ("decimation stage 1: 5th-order sinc") when shown.
+    pub what: FilterName,
     /// Its delay in seconds, `None` when the filter does not give it.
     pub delay_s: Option<f64>,
     /// The same delay in samples, and the rate they are counted at (Hz): a sinc's input

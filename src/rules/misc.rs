@@ -315,7 +315,7 @@ fn droop_help(cause: Option<&Contribution>, band: f64, att: f64, tol: f64) -> St
     };
     // What the other filters leave for this one.
     let budget = tol - (att - c.db);
-    let what = &c.what;
+    let what = &c.what();
     let place = c.place.short();
     let in_decimation = matches!(c.place, FilterPlace::Stage(_));
     match &c.response {
