@@ -552,7 +552,14 @@ impl<'a> Chain<'a> {
             Some(m) if upto == 0 => (m / fs).round() as u64,
             _ => 0,
         };
-        let att = |f: f64| self.attenuation_db(f, upto);
+        // The filters are looked up once, not once per frequency tried (the same sum,
+        // in the same order, as `attenuation_db`).
+        let att = |f: f64| -> f64 {
+            filters
+                .iter()
+                .map(|(flt, at, _)| filter_attenuation_db(&flt.response, f, *at))
+                .sum()
+        };
         let mut best: Option<(f64, f64)> = None;
         let consider = |f: f64, best: &mut Option<(f64, f64)>| {
             let a = att(f);
