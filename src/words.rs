@@ -25,12 +25,12 @@ pub fn sig6(x: f64) -> String {
     }
     let digits = 6 - 1 - x.abs().log10().floor() as i32;
     let decimals = digits.clamp(0, 12) as usize;
-    let s = format!("{x:.decimals$}");
-    let s = if s.contains('.') {
-        s.trim_end_matches('0').trim_end_matches('.').to_string()
-    } else {
-        s
-    };
+    let mut s = format!("{x:.decimals$}");
+    if s.contains('.') {
+        // Trailing zeros and the point cut off in place (no second string).
+        let kept = s.trim_end_matches('0').trim_end_matches('.').len();
+        s.truncate(kept);
+    }
     if s == "-0" { "0".to_string() } else { s }
 }
 
@@ -103,22 +103,49 @@ pub fn parse_decimal(s: &str) -> Option<Exact> {
 /// Format a frequency in the largest unit that keeps the value ≥ 1, with up to 6
 /// significant digits: `51.2 kHz`, `44.1 kHz`, `3.33333 MHz`.
 pub fn format_hz(hz: f64) -> String {
-    let (number, _, unit) = hz_parts(hz);
-    format!("{number} {unit}")
+    let (mut number, _, unit) = hz_parts(hz);
+    number.push(' ');
+    number.push_str(unit);
+    number
 }
+
+/// The units a frequency is shown in, largest first.
+const HZ_UNITS: [(i128, &str); 4] = [
+    (1_000_000_000, "GHz"),
+    (1_000_000, "MHz"),
+    (1_000, "kHz"),
+    (1, "Hz"),
+];
 
 /// A frequency as its six-digit number, the unit's scale and the unit's name.
 fn hz_parts(hz: f64) -> (String, i128, &'static str) {
     // Choose the unit after rounding to 6 significant digits, so 999 999.7 Hz is
-    // "1 MHz", not "1000 kHz".
-    let units = [
-        (1_000_000_000, "GHz"),
-        (1_000_000, "MHz"),
-        (1_000, "kHz"),
-        (1, "Hz"),
-    ];
+    // "1 MHz", not "1000 kHz". Rounding to 6 digits moves a value by at most half a
+    // unit in its 6th digit (5e-7 of a power of ten below it), so only a value just under
+    // a unit's scale (within 1e-6 of it) needs the rounded value to choose; any other
+    // value chooses by itself, and its digits are formatted once.
+    let a = hz.abs();
+    if a.is_finite() {
+        for (scale, unit) in HZ_UNITS {
+            let s = scale as f64;
+            if a >= s {
+                return (sig6(hz / s), scale, unit);
+            }
+            if a >= s * (1.0 - 1e-6) {
+                break;
+            }
+        }
+        if a < 1.0 - 1e-6 {
+            return (sig6(hz), 1, "Hz");
+        }
+    }
+    hz_parts_rounded(hz)
+}
+
+/// [`hz_parts`] choosing the unit by the value rounded to 6 significant digits.
+fn hz_parts_rounded(hz: f64) -> (String, i128, &'static str) {
     let rounded = sig6(hz).parse::<f64>().unwrap_or(hz);
-    let (scale, unit) = units
+    let (scale, unit) = HZ_UNITS
         .iter()
         .copied()
         .find(|(scale, _)| rounded.abs() >= *scale as f64)
@@ -302,6 +329,42 @@ mod tests {
         assert!(near(round_sig(0.000_566_406_25, 4), 566.4e-6));
         assert!(near(round_sig(-12.345, 3), -12.3));
         assert_eq!(round_sig(0.0, 4), 0.0);
+    }
+
+    /// The unit chosen without rounding first is the unit chosen after rounding: every
+    /// power of ten around the unit boundaries, values a few ulps and a few 6th-digit
+    /// steps either side of them, both signs, and a seeded spread of magnitudes from
+    /// 1e-4 Hz to 1e13 Hz.
+    #[test]
+    fn frequency_units_chosen_without_rounding_agree_with_rounding_first() {
+        let mut values = vec![0.0, -0.0, f64::NAN, f64::INFINITY, f64::NEG_INFINITY];
+        for e in -4..=13 {
+            let p = 10f64.powi(e);
+            for d in [
+                -2e-6, -1e-6, -6e-7, -5.0001e-7, -5e-7, -4.9999e-7, -1e-7, -1e-12, 0.0, 1e-12,
+                1e-7, 5e-7,
+            ] {
+                values.push(p * (1.0 + d));
+            }
+            let mut x = p;
+            for _ in 0..8 {
+                x = f64::from_bits(x.to_bits() - 1);
+                values.push(x);
+            }
+        }
+        let mut state: u64 = 0x9e37_79b9_7f4a_7c15;
+        for _ in 0..20_000 {
+            state ^= state << 13;
+            state ^= state >> 7;
+            state ^= state << 17;
+            let u = (state >> 11) as f64 / (1u64 << 53) as f64;
+            values.push(10f64.powf(-4.0 + 17.0 * u));
+        }
+        for v in values {
+            for x in [v, -v] {
+                assert_eq!(hz_parts(x), hz_parts_rounded(x), "{x:e}");
+            }
+        }
     }
 
     #[test]
