@@ -138,7 +138,11 @@ impl Shift {
 struct Identity(&'static str, PathBuf, String);
 
 fn identity(sources: &Sources, f: &Finding, shift: Option<&Shift>) -> Identity {
-    let path = absolute(&sources.get(f.primary.span.file).path);
+    identity_at(absolute(&sources.get(f.primary.span.file).path), f, shift)
+}
+
+/// [`identity`] of a finding whose file's absolute path is known.
+fn identity_at(path: PathBuf, f: &Finding, shift: Option<&Shift>) -> Identity {
     let what = match (&f.subject, &f.channel) {
         (Some(s), _) => format!("subject:{s}"),
         (None, Some(c)) => format!("channel:{c}"),
@@ -320,6 +324,9 @@ struct VerifyCtx<'a> {
     texts: HashMap<PathBuf, FileId>,
     /// Each file's absolute path, by id (asked once, not once per finding per check).
     abs: Vec<PathBuf>,
+    /// The findings (indexes) by the file of their primary label: a check reads those
+    /// of the files it re-lints, not every finding of the run.
+    by_file: Vec<Vec<usize>>,
     /// For each edited catalog: rigs under the root that include it but were not linted
     /// in this run, with the identities of their findings before the edit.
     extra: Mutex<HashMap<PathBuf, Arc<Extra>>>,
@@ -349,6 +356,12 @@ impl<'a> VerifyCtx<'a> {
             .iter()
             .map(|f| (abs[f.id as usize].clone(), f.id))
             .collect();
+        let mut by_file: Vec<Vec<usize>> = vec![Vec::new(); abs.len()];
+        for (i, f) in out.findings.iter().enumerate() {
+            if let Some(list) = by_file.get_mut(f.primary.span.file as usize) {
+                list.push(i);
+            }
+        }
         VerifyCtx {
             out,
             max_file_bytes,
@@ -356,6 +369,7 @@ impl<'a> VerifyCtx<'a> {
             rig_paths,
             texts,
             abs,
+            by_file,
             extra: Mutex::new(HashMap::new()),
             partial,
             undecided: std::sync::atomic::AtomicBool::new(false),
@@ -510,11 +524,14 @@ impl<'a> VerifyCtx<'a> {
             .collect();
         let shift = Shift::of(key);
         let mut before: HashSet<Identity> = self
-            .out
-            .findings
+            .abs
             .iter()
-            .filter(|f| files.contains(&self.abs[f.primary.span.file as usize]))
-            .map(|f| identity(&self.out.sources, f, Some(&shift)))
+            .zip(&self.by_file)
+            .filter(|(path, _)| files.contains(path))
+            .flat_map(|(path, list)| {
+                list.iter()
+                    .map(|&i| identity_at(path.clone(), &self.out.findings[i], Some(&shift)))
+            })
             .collect();
         // Findings already rendered (a rig finished before the campaign): each has its
         // subject, so its identity does not move with an edit.
@@ -563,21 +580,26 @@ impl<'a> VerifyCtx<'a> {
         else {
             return reject;
         };
-        let after_ids: HashSet<Identity> = after
+        // Each file's absolute path once, not once per finding.
+        let after_abs: Vec<PathBuf> = after.sources.iter().map(|f| absolute(&f.path)).collect();
+        let after_list: Vec<Identity> = after
             .findings
             .iter()
-            .map(|f| identity(&after.sources, f, None))
+            .map(|f| identity_at(after_abs[f.primary.span.file as usize].clone(), f, None))
             .collect();
-        let mut added = after.findings.iter().filter(|f| {
-            f.severity >= Severity::Warning
-                && f.suppressed.is_none()
-                && !before.contains(&identity(&after.sources, f, None))
-        });
+        let mut added = after
+            .findings
+            .iter()
+            .zip(&after_list)
+            .filter(|(f, id)| {
+                f.severity >= Severity::Warning && f.suppressed.is_none() && !before.contains(*id)
+            })
+            .map(|(f, _)| f);
         if self.partial {
             // Only a finding in the rig's own file is known to be new.
             let (own, other): (Vec<&Finding>, Vec<&Finding>) = added.partition(|f| {
                 self.rig_paths
-                    .contains(&absolute(&after.sources.get(f.primary.span.file).path))
+                    .contains(&after_abs[f.primary.span.file as usize])
             });
             if !own.is_empty() {
                 return None;
@@ -590,15 +612,14 @@ impl<'a> VerifyCtx<'a> {
         } else if added.next().is_some() {
             return None;
         }
+        let after_ids: HashSet<Identity> = after_list.into_iter().collect();
         let keep: Vec<usize> = idxs
             .iter()
             .copied()
             .filter(|&i| {
-                !after_ids.contains(&identity(
-                    &self.out.sources,
-                    &self.out.findings[i],
-                    Some(&shift),
-                ))
+                let f = &self.out.findings[i];
+                let path = self.abs[f.primary.span.file as usize].clone();
+                !after_ids.contains(&identity_at(path, f, Some(&shift)))
             })
             .collect();
         let edited_run = (!catalogs.is_empty()).then_some((after, shift));
