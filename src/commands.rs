@@ -73,7 +73,7 @@ pub fn run(command: Command) -> Outcome {
                 match format {
                     CheckFormat::Human => {
                         out.pieces()
-                            .try_for_each(|p| w.write_all(p))
+                            .try_for_each(|p| w.write_all(&p?))
                             .and_then(|()| {
                                 w.write_all(
                                     human::summary_of(

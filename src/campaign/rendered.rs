@@ -28,19 +28,121 @@ use crate::root::CampaignRoot;
 use crate::settings::{Level, Settings};
 use crate::source::{FileId, Sources};
 use crate::suppress::{self, Suppression};
+use std::borrow::Cow;
 use std::collections::{HashMap, HashSet};
 use std::hash::{Hash, Hasher};
+use std::io::{Read, Seek, SeekFrom, Write};
 use std::path::PathBuf;
+use std::sync::Mutex;
+use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
 
 /// Renders one finding to the bytes it takes in the output (`None`: nothing shown, as
 /// for a suppressed finding in the human report).
 pub type Render<'r> = dyn Fn(&Sources, &Finding) -> Option<Vec<u8>> + Sync + 'r;
 
+/// Rendered bytes held in memory at the most; the rest wait in a temporary file (a
+/// campaign of a million channels renders to a few hundred megabytes).
+const IN_MEMORY: usize = 16 << 20;
+
+/// Where rendered bytes wait for the output: memory up to [`IN_MEMORY`], then an
+/// unnamed temporary file (removed as soon as it is open; when none can be made, memory).
+#[derive(Debug, Default)]
+struct Spill {
+    held: AtomicUsize,
+    file: Mutex<Option<(std::fs::File, u64)>>,
+    /// A temporary file was asked for (once).
+    tried: AtomicBool,
+    /// A write to the file failed: nothing more goes there.
+    full: AtomicBool,
+}
+
+impl Spill {
+    /// Keep `bytes`: in memory while there is room, else at the end of the file.
+    fn keep(&self, bytes: Vec<u8>) -> Bytes {
+        let held = self.held.fetch_add(bytes.len(), Ordering::Relaxed) + bytes.len();
+        if held <= IN_MEMORY || bytes.is_empty() {
+            return Bytes::Memory(bytes);
+        }
+        let mut file = self.file.lock().expect("no thread panicked");
+        if file.is_none() && !self.tried.swap(true, Ordering::Relaxed) {
+            *file = temporary_file().map(|f| (f, 0));
+        }
+        if let Some((f, end)) = file.as_mut()
+            && !self.full.load(Ordering::Relaxed)
+        {
+            if f.seek(SeekFrom::Start(*end)).is_ok() && f.write_all(&bytes).is_ok() {
+                let at = *end;
+                *end += bytes.len() as u64;
+                self.held.fetch_sub(bytes.len(), Ordering::Relaxed);
+                return Bytes::File {
+                    at,
+                    len: bytes.len(),
+                };
+            }
+            // The disk is full (or the file failed): what is in it stays readable, the
+            // rest is kept in memory.
+            self.full.store(true, Ordering::Relaxed);
+        }
+        Bytes::Memory(bytes)
+    }
+
+    /// Bytes kept by [`Spill::keep`].
+    fn read(&self, bytes: &Bytes) -> std::io::Result<Vec<u8>> {
+        match bytes {
+            Bytes::Memory(b) => Ok(b.clone()),
+            Bytes::File { at, len } => {
+                let mut file = self.file.lock().expect("no thread panicked");
+                let Some((f, _)) = file.as_mut() else {
+                    // Never so: the file, once made, stays open.
+                    return Err(std::io::Error::other("the temporary file is not open"));
+                };
+                f.seek(SeekFrom::Start(*at))?;
+                let mut out = vec![0; *len];
+                f.read_exact(&mut out)?;
+                Ok(out)
+            }
+        }
+    }
+}
+
+/// A new temporary file, open for reading and writing, its name already removed.
+fn temporary_file() -> Option<std::fs::File> {
+    let dir = std::env::temp_dir();
+    for n in 0..16u32 {
+        let name = format!(
+            "foldcheck-{}-{}-{n}.tmp",
+            std::process::id(),
+            std::time::SystemTime::now()
+                .duration_since(std::time::UNIX_EPOCH)
+                .map_or(0, |d| d.subsec_nanos())
+        );
+        let path = dir.join(name);
+        if let Ok(f) = std::fs::OpenOptions::new()
+            .read(true)
+            .write(true)
+            .create_new(true)
+            .open(&path)
+        {
+            // Unnamed from now on where the system allows it (the file lives while open).
+            let _ = std::fs::remove_file(&path);
+            return Some(f);
+        }
+    }
+    None
+}
+
+/// Rendered bytes, in memory or in the temporary file.
+#[derive(Debug)]
+enum Bytes {
+    Memory(Vec<u8>),
+    File { at: u64, len: usize },
+}
+
 /// The rendered findings of one file, in output order: one buffer (not one allocation
 /// per finding) and where each finding ends in it.
-#[derive(Debug, Default)]
+#[derive(Debug)]
 pub struct Chunk {
-    bytes: Vec<u8>,
+    bytes: Bytes,
     ends: Vec<usize>,
 }
 
@@ -50,23 +152,43 @@ impl Chunk {
         sources: &Sources,
         findings: impl IntoIterator<Item = &'a Finding>,
         render: &Render<'_>,
+        spill: &Spill,
     ) -> Chunk {
-        let mut c = Chunk::default();
+        let mut bytes = Vec::new();
+        let mut ends = Vec::new();
         for f in findings {
             if let Some(p) = render(sources, f) {
-                c.bytes.extend_from_slice(&p);
-                c.ends.push(c.bytes.len());
+                bytes.extend_from_slice(&p);
+                ends.push(bytes.len());
             }
         }
-        c.bytes.shrink_to_fit();
-        c.ends.shrink_to_fit();
-        c
+        bytes.shrink_to_fit();
+        ends.shrink_to_fit();
+        Chunk {
+            bytes: spill.keep(bytes),
+            ends,
+        }
     }
 
     /// Each finding's bytes.
-    fn pieces(&self) -> impl Iterator<Item = &[u8]> {
+    fn pieces<'a>(
+        &'a self,
+        spill: &'a Spill,
+    ) -> Box<dyn Iterator<Item = std::io::Result<Cow<'a, [u8]>>> + 'a> {
         let starts = std::iter::once(0).chain(self.ends.iter().copied());
-        starts.zip(&self.ends).map(|(a, &b)| &self.bytes[a..b])
+        let ranges = starts.zip(self.ends.iter().copied());
+        match &self.bytes {
+            Bytes::Memory(b) => Box::new(ranges.map(move |(a, z)| Ok(Cow::Borrowed(&b[a..z])))),
+            kept @ Bytes::File { .. } => match spill.read(kept) {
+                Ok(b) => Box::new(
+                    ranges
+                        .map(move |(a, z)| Ok(Cow::Owned(b[a..z].to_vec())))
+                        .collect::<Vec<_>>()
+                        .into_iter(),
+                ),
+                Err(e) => Box::new(std::iter::once(Err(e))),
+            },
+        }
     }
 }
 
@@ -75,6 +197,8 @@ impl Chunk {
 pub struct Rendered {
     /// The shown findings' bytes by file, in output order (file, line, column, rule).
     chunks: Vec<Chunk>,
+    /// Where the chunks' bytes wait.
+    spill: Spill,
     /// Counts by severity of all findings (suppressed ones included, as
     /// [`Counts::of`]).
     pub counts: Counts,
@@ -89,9 +213,10 @@ pub struct Rendered {
 }
 
 impl Rendered {
-    /// Each shown finding's bytes, in output order.
-    pub fn pieces(&self) -> impl Iterator<Item = &[u8]> {
-        self.chunks.iter().flat_map(Chunk::pieces)
+    /// Each shown finding's bytes, in output order (reading them back can fail when they
+    /// waited in a temporary file).
+    pub fn pieces(&self) -> impl Iterator<Item = std::io::Result<Cow<'_, [u8]>>> {
+        self.chunks.iter().flat_map(|c| c.pieces(&self.spill))
     }
 }
 
@@ -131,8 +256,10 @@ pub fn run_rendered(
 ) -> Result<Rendered, Fatal> {
     let whole = |render: &Render<'_>| -> Result<Rendered, Fatal> {
         let out = super::run(paths, opts)?;
+        let spill = Spill::default();
         Ok(Rendered {
-            chunks: vec![Chunk::of(&out.sources, &out.findings, render)],
+            chunks: vec![Chunk::of(&out.sources, &out.findings, render, &spill)],
+            spill,
             counts: Counts::of(&out.findings),
             files: out.files,
             channels: out.channels,
@@ -151,12 +278,20 @@ pub fn run_rendered(
     let (jobs, notes) = discover(paths, opts)?;
     let roots = roots_without_settings(&jobs);
     let ctx = Ctx::new(opts);
+    let spill = Spill::default();
     let done = each_job(&jobs, opts, |i, job| {
         let mut r = lint_rig(&ctx, job, false)?;
         r.job = i;
-        Ok(finish_rig(&ctx, job, r, render, opts.max_file_bytes))
+        Ok(finish_rig(
+            &ctx,
+            job,
+            r,
+            render,
+            &spill,
+            opts.max_file_bytes,
+        ))
     })?;
-    match finish_campaign(ctx, done, jobs, render, opts.max_file_bytes) {
+    match finish_campaign(ctx, done, jobs, render, spill, opts.max_file_bytes) {
         Some(mut out) => {
             out.notes = notes;
             out.roots_without_settings = roots;
@@ -174,7 +309,14 @@ fn subject_hash(subject: Option<&str>, rule: &str) -> u64 {
 }
 
 /// Finish one rig's findings in its own file (see the module documentation).
-fn finish_rig(ctx: &Ctx, job: &Job, r: RigResult, render: &Render<'_>, max: u64) -> Done {
+fn finish_rig(
+    ctx: &Ctx,
+    job: &Job,
+    r: RigResult,
+    render: &Render<'_>,
+    spill: &Spill,
+    max: u64,
+) -> Done {
     let RigResult {
         mut loaded,
         findings,
@@ -253,7 +395,7 @@ fn finish_rig(ctx: &Ctx, job: &Job, r: RigResult, render: &Render<'_>, max: u64)
     let own = match verify_alone(job, &outcome, &sources, own, channels, max, context) {
         Ok(own) => {
             let counts = Counts::of(&own);
-            let chunk = Chunk::of(&sources, &own, render);
+            let chunk = Chunk::of(&sources, &own, render, spill);
             let subjects = if elsewhere.is_empty() {
                 HashSet::new()
             } else {
@@ -350,6 +492,7 @@ fn finish_campaign(
     done: Vec<Done>,
     jobs: Vec<Job>,
     render: &Render<'_>,
+    spill: Spill,
     max: u64,
 ) -> Option<Rendered> {
     let catalogs = ctx.catalogs.into_inner().expect("no thread panicked");
@@ -468,17 +611,44 @@ fn finish_campaign(
             .iter()
             .take_while(|f| f.primary.span.file == file)
             .count();
-        let chunk = Chunk::of(&out.sources, &out.findings[at..at + n], render);
+        let chunk = Chunk::of(&out.sources, &out.findings[at..at + n], render, &spill);
         chunks.push((out.sources.get(file).display.clone(), chunk));
         at += n;
     }
     chunks.sort_by(|a, b| a.0.cmp(&b.0));
     Some(Rendered {
         chunks: chunks.into_iter().map(|(_, c)| c).collect(),
+        spill,
         counts,
         files: out.files,
         channels: out.channels,
         notes: Vec::new(),
         roots_without_settings: Vec::new(),
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn bytes_past_the_memory_limit_wait_in_a_file_and_read_back_the_same() {
+        let spill = Spill::default();
+        // 20 chunks of 1 MiB: the first 16 stay in memory, the rest go to the file.
+        let chunks: Vec<Vec<u8>> = (0..20u8)
+            .map(|i| (0..1 << 20).map(|k: u32| i ^ (k % 251) as u8).collect())
+            .collect();
+        let kept: Vec<Bytes> = chunks.iter().map(|c| spill.keep(c.clone())).collect();
+        let in_file = kept
+            .iter()
+            .filter(|b| matches!(b, Bytes::File { .. }))
+            .count();
+        // A system without a writable temporary directory keeps everything in memory.
+        if spill.file.lock().unwrap().is_some() {
+            assert_eq!(in_file, 4);
+        }
+        for (c, k) in chunks.iter().zip(&kept) {
+            assert_eq!(&spill.read(k).unwrap(), c);
+        }
+    }
 }

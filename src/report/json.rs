@@ -95,7 +95,7 @@ pub fn write<W: std::io::Write>(
     files: usize,
     channels: usize,
 ) -> std::io::Result<()> {
-    let pieces = findings.iter().map(|f| finding_text(sources, f));
+    let pieces = findings.iter().map(|f| Ok(finding_text(sources, f)));
     write_pieces(w, pieces, files, channels, Counts::of(findings))
 }
 
@@ -118,7 +118,7 @@ pub fn finding_text(sources: &Sources, f: &Finding) -> Vec<u8> {
 /// output order, and the counts of all findings.
 pub fn write_pieces<W: std::io::Write, P: AsRef<[u8]>>(
     w: &mut W,
-    pieces: impl IntoIterator<Item = P>,
+    pieces: impl IntoIterator<Item = std::io::Result<P>>,
     files: usize,
     channels: usize,
     c: Counts,
@@ -130,7 +130,7 @@ pub fn write_pieces<W: std::io::Write, P: AsRef<[u8]>>(
     let mut empty = true;
     for p in pieces {
         w.write_all(if empty { b"\n" } else { b",\n" })?;
-        w.write_all(p.as_ref())?;
+        w.write_all(p?.as_ref())?;
         empty = false;
     }
     w.write_all(if empty { b"],\n" } else { b"\n  ],\n" })?;

@@ -73,7 +73,7 @@ pub fn write<W: Write>(
     findings: &[Finding],
     base: &Path,
 ) -> std::io::Result<()> {
-    let pieces = findings.iter().map(|f| result_text(sources, base, f));
+    let pieces = findings.iter().map(|f| Ok(result_text(sources, base, f)));
     write_pieces(out, pieces, base)
 }
 
@@ -99,7 +99,7 @@ pub fn result_text(sources: &Sources, base: &Path, f: &Finding) -> Vec<u8> {
 /// The log from results already turned into text ([`result_text`]), in output order.
 pub fn write_pieces<W: Write, P: AsRef<[u8]>>(
     out: &mut W,
-    pieces: impl IntoIterator<Item = P>,
+    pieces: impl IntoIterator<Item = std::io::Result<P>>,
     base: &Path,
 ) -> std::io::Result<()> {
     // The log around an empty result list, split where the results go.
@@ -116,7 +116,7 @@ pub fn write_pieces<W: Write, P: AsRef<[u8]>>(
     let mut empty = true;
     for p in pieces {
         out.write_all(if empty { b"\n" } else { b",\n" })?;
-        out.write_all(p.as_ref())?;
+        out.write_all(p?.as_ref())?;
         empty = false;
     }
     if !empty {
