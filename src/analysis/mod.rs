@@ -207,6 +207,16 @@ pub struct RigAnalysis<'r> {
     pub enabled: Enabled,
 }
 
+impl RigAnalysis<'_> {
+    /// Whether channel `ci` was analysed in this run: false only for a channel that
+    /// [`analyse_only`] left out on purpose.
+    pub fn in_scope(&self, ci: usize) -> bool {
+        self.channels
+            .get(ci)
+            .is_none_or(|c| !matches!(c.rates, Err(NotAnalysed::OutOfScope)))
+    }
+}
+
 /// Channels analysed in one piece of work: a rig's channels are analysed in parallel
 /// (a large rig file uses every core), in pieces large enough that a small rig is not
 /// slowed by the hand-over.

@@ -6,6 +6,7 @@ use crate::declared;
 use crate::finding::Finding;
 use crate::model::Response;
 use crate::source::Span;
+use std::collections::HashMap;
 
 /// `modulator-unknown`.
 pub static MODULATOR_UNKNOWN: Rule = Rule {
@@ -67,6 +68,9 @@ fn check_modulator_unknown(a: &RigAnalysis, out: &mut Vec<Finding>) {
     // One finding per digital filter, however many channels share it (a module's
     // `filters`): the first channel names it, the count says how many more.
     let mut seen: Vec<(Span, usize, usize)> = Vec::new();
+    // Where each filter sits in `seen`: a rig of thousands of channels on their own
+    // filters would otherwise compare every channel with every filter seen so far.
+    let mut at: HashMap<Span, usize> = HashMap::new();
     for (ci, ch) in rig.channels.iter().enumerate().filter(|(_, c)| c.ok) {
         // A channel on no module has no converter to describe (docs/model.md: its
         // digital filter holds its stopband value).
@@ -83,11 +87,17 @@ fn check_modulator_unknown(a: &RigAnalysis, out: &mut Vec<Finding>) {
         else {
             continue;
         };
-        match seen.iter_mut().find(|(s, _, _)| *s == filter.span) {
-            Some((_, _, more)) => *more += 1,
-            None => seen.push((filter.span, ci, 0)),
+        match at.get(&filter.span) {
+            Some(&i) => seen[i].2 += 1,
+            None => {
+                at.insert(filter.span, seen.len());
+                seen.push((filter.span, ci, 0));
+            }
         }
     }
+    // A run that analyses only some channels (`inspect`) raises no finding named by a
+    // channel it left out; the count of users still covers the whole rig.
+    seen.retain(|&(_, ci, _)| a.in_scope(ci));
     for (span, ci, more) in seen {
         let ch = &rig.channels[ci];
         let name = &ch.def.name.value;
