@@ -147,7 +147,13 @@ pub struct SyntaxError {
 
 /// Parse one YAML document into a node tree.
 pub fn parse(file: FileId, text: &str, lines: &LineIndex) -> Result<Node, SyntaxError> {
-    let node = match scan::parse(file, text).or_else(|| fast::parse(file, text)) {
+    if let Some(node) = scan::parse(file, text) {
+        // Nothing for the continuation check below to find: the scanner takes no quoted
+        // scalar or flow collection over several lines, and every line of a block
+        // scalar it takes is indented past the mapping holding it.
+        return Ok(empty_at_start(node));
+    }
+    let node = match fast::parse(file, text) {
         Some(node) => node,
         None => parse_with_serde(file, text, lines)?,
     };
