@@ -105,30 +105,11 @@ impl Spill {
     }
 }
 
-/// A new temporary file, open for reading and writing, its name already removed.
+/// A new temporary file, open for reading and writing, with no name on disk
+/// (`tempfile::tempfile`: `O_TMPFILE` where the system has it, else created and unlinked
+/// at once), so it is gone when the process ends, however it ends.
 fn temporary_file() -> Option<std::fs::File> {
-    let dir = std::env::temp_dir();
-    for n in 0..16u32 {
-        let name = format!(
-            "foldcheck-{}-{}-{n}.tmp",
-            std::process::id(),
-            std::time::SystemTime::now()
-                .duration_since(std::time::UNIX_EPOCH)
-                .map_or(0, |d| d.subsec_nanos())
-        );
-        let path = dir.join(name);
-        if let Ok(f) = std::fs::OpenOptions::new()
-            .read(true)
-            .write(true)
-            .create_new(true)
-            .open(&path)
-        {
-            // Unnamed from now on where the system allows it (the file lives while open).
-            let _ = std::fs::remove_file(&path);
-            return Some(f);
-        }
-    }
-    None
+    tempfile::tempfile().ok()
 }
 
 /// Rendered bytes, in memory or in the temporary file.
