@@ -128,6 +128,15 @@ fn hand_written_cases_agree_or_are_declined() {
         "x: {a: 1, b: 'z' }  \nv: [ ]\nz: [a, \"b\" ]\nw: {}\n",
         "a: [[1, 2], {b: [c]}, []]\nd: {e: {f: g}, h: [i]}\n",
         "a: >\n  one two\n  three\n\n  four\n# c\nb: 1\n",
+        // Found by the `lint` fuzz target: an empty value after `key :` (space before the
+        // colon) sits at the colon, not at the key's end.
+        "rig :",
+        "format: 1\nrig :",
+        "rig :\n",
+        "a :\nb: 1\n",
+        "a  : # c\nb: 1\n",
+        "x:\n  a :\n  b: 2\n",
+        "- a :\n  b :\n",
         "a: |-\n   x  \n    y\n\n   z\n\n\nb: >-  # c\n  q\n  # not a comment\nc: |\n  w\n\n",
         "- a: >\n    text\n  b: 1\n",
         "a: >\n  last",

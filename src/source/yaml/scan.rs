@@ -240,7 +240,7 @@ impl<'a> Scanner<'a> {
             if !new_text_key(&entries, &mut seen, &key) {
                 return None;
             }
-            let (value, next) = self.map_value(&key, after, col, depth)?;
+            let (value, next) = self.map_value(after, col, depth)?;
             entries.push((key, value));
             let Some((m, cp)) = next else {
                 return Some((map_node(start, entries), None));
@@ -269,18 +269,15 @@ impl<'a> Scanner<'a> {
     }
 
     /// The value of `key` in a mapping at `col`, from just after its `:`.
-    fn map_value(
-        &mut self,
-        key: &Node,
-        after: usize,
-        col: usize,
-        depth: usize,
-    ) -> Option<(Node, Next)> {
+    fn map_value(&mut self, after: usize, col: usize, depth: usize) -> Option<(Node, Next)> {
         let mut r = after;
         while self.at(r) == b' ' {
             r += 1;
         }
-        let null = |s: &Self| s.span(key.span.end as usize, key.span.end as usize);
+        // An empty value sits where its `:` is, as the full reader places it (the key's
+        // end only when nothing stands between the key and its `:`).
+        let colon = after - 1;
+        let null = |s: &Self| s.span(colon, colon);
         if r >= self.b.len() || self.b[r] == b'\n' || self.b[r] == b'#' {
             let eol = self.end_of_line(after)?;
             let next = self.next_after(eol)?;
