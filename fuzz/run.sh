@@ -53,8 +53,12 @@ for t in $targets; do
     [ "$t" = lint ] && dict=(-dict="$here/rig.dict")
     seeds=()
     [ -d "$here/seeds/$t" ] && seeds=("$here/seeds/$t")
-    nice -n 5 "$bin/$t" "$corpus" "${seeds[@]}" "${dict[@]}" \
-        -max_total_time="$secs" -max_len=65536 -print_final_stats=1 \
+    # `extremes` reaches more of the format with longer inputs from the start (libFuzzer
+    # otherwise grows them slowly from a few dozen bytes).
+    len=(-max_len=65536)
+    [ "$t" = extremes ] && len=(-len_control=0 -max_len=4096)
+    nice -n 5 "$bin/$t" "$corpus" "${seeds[@]}" "${dict[@]}" "${len[@]}" \
+        -max_total_time="$secs" -print_final_stats=1 \
         -timeout=30 -report_slow_units=2 -rss_limit_mb=2048 \
         -artifact_prefix="$here/artifacts/$t/" >"$log" 2>&1 || status=$?
     echo "== $t (status $status)"
