@@ -17,14 +17,7 @@ pub enum Want {
 }
 
 /// The filter responses of the rig format (docs/format.md).
-pub const RESPONSES: [&str; 6] = [
-    "butterworth",
-    "bessel",
-    "chebyshev",
-    "table",
-    "digital",
-    "sinc",
-];
+pub use crate::model::RESPONSES;
 
 /// The kind of quantity a key holds (docs/format.md), if it holds one.
 pub fn quantity_kind(key: &str) -> Option<Kind> {

@@ -389,14 +389,7 @@ fn chain(node: &Node) -> bool {
 /// The responses `$defs/filter` (a decimation stage's) allows; a filter at the ADC
 /// (`$defs/chain-filter`) takes the first five, a sensor's roll-off
 /// (`$defs/sensor-response-filter`) the first four.
-const ANY: &[&str] = &[
-    "butterworth",
-    "bessel",
-    "chebyshev",
-    "table",
-    "digital",
-    "sinc",
-];
+const ANY: &[&str] = &super::RESPONSES;
 const AT_ADC: &[&str] = ANY.split_at(5).0;
 const ANALOG: &[&str] = ANY.split_at(4).0;
 

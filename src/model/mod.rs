@@ -179,6 +179,18 @@ pub struct Module {
     pub modulator: Option<Modulator>,
 }
 
+/// Every filter `response` of the rig format, in the order of docs/format.md: a
+/// decimation stage takes all six, a filter at the ADC the first five, a sensor's
+/// roll-off the first four.
+pub const RESPONSES: [&str; 6] = [
+    "butterworth",
+    "bessel",
+    "chebyshev",
+    "table",
+    "digital",
+    "sinc",
+];
+
 /// How fast a delta-sigma modulator runs.
 #[derive(Clone, Debug, PartialEq)]
 pub enum ModulatorRate {
