@@ -11,6 +11,15 @@
 # fuzz/src/lib.rs (`check`).
 #
 # One job at a time, niced (the build by 10, the fuzzer by 5): the machine is shared.
+# (Where the kernel groups processes by session, "autogroup", nice only ranks processes
+# of one session; `echo 19 > /proc/<pid>/autogroup` lowers a whole session's share.)
+#
+# Built for executions per second: without comparison tracing (`--no-trace-compares`)
+# and run with libFuzzer's classic schedule (`-entropic=0`); side by side on this
+# project's corpus the two gave 2.2× and 1.45× the executions, with the same coverage
+# after 90 s (fuzz/README.md). `TRACE_COMPARES=1` builds with comparison tracing, which
+# guides mutations towards the constants the code compares with (slower; the corpus
+# and the dictionary carry what earlier traced runs found).
 # Needs cargo-fuzz (`cargo install cargo-fuzz`) and a nightly toolchain; where only
 # stable is installed the script sets RUSTC_BOOTSTRAP=1, which lets stable accept the
 # flags. The targets are built without a
@@ -42,7 +51,9 @@ mkdir -p "$here/corpus/lint"
     seed_corpus_holds_every_rule_example_and_example_rig -- --nocapture | grep '^wrote' || true)
 
 cd "$here"
-CARGO_INCREMENTAL=0 nice -n 10 cargo "${toolchain[@]}" fuzz build -O -a -s none
+trace=(--no-trace-compares)
+[ "${TRACE_COMPARES:-0}" = 1 ] && trace=()
+CARGO_INCREMENTAL=0 nice -n 10 cargo "${toolchain[@]}" fuzz build -O -a -s none "${trace[@]}"
 bin=$here/target/x86_64-unknown-linux-gnu/release
 status=0
 for t in $targets; do
@@ -58,7 +69,7 @@ for t in $targets; do
     len=(-max_len=65536)
     [ "$t" = extremes ] && len=(-len_control=0 -max_len=4096)
     nice -n 5 "$bin/$t" "$corpus" "${seeds[@]}" "${dict[@]}" "${len[@]}" \
-        -max_total_time="$secs" -print_final_stats=1 \
+        -max_total_time="$secs" -entropic=0 -print_final_stats=1 \
         -timeout=30 -report_slow_units=2 -rss_limit_mb=2048 \
         -artifact_prefix="$here/artifacts/$t/" >"$log" 2>&1 || status=$?
     echo "== $t (status $status)"
