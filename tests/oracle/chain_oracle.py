@@ -49,8 +49,11 @@ exactly (fractions) where they meet a rate:
 - `sampling-margin` at the first rate change before that with fs < 2.5·B (common
   practice, the built-in margin),
 - `alias-rejection` when, at a checked rate change, the worst image (or a modulator
-  image) is attenuated less than the built-in 40 dB (reported at the worst rate change;
-  within 0.05 dB of it not compared),
+  image, or a sensor resonance that folds into the band there, net of its gain) is
+  attenuated less than the built-in 40 dB (reported at the worst rate change; within
+  0.05 dB of it not compared); when the resonance is the worst case, the finding's
+  `fold_from_hz` must be the resonance and `attenuation_db` the chain's attenuation
+  there less the gain (0.01 dB),
 - `passband-droop` when the chain attenuates B by more than 0.5 dB (whatever nyquist
   says),
 - `oversampling` when the final rate exceeds 20·B.
@@ -208,8 +211,21 @@ def make_channel(rng, i):
         # A delta-sigma module: modulator at R × the ADC rate, its own FIR (passband
         # 0.45, stopband 0.55 of the ADC rate, 150 dB), periodic in the modulator rate.
         modulator = rng.choice([16, 32, 64, 128, 256])
+    resonance = None
+    if sensor is None and modulator is None and rng.random() < 0.35:
+        # A sensor resonance above the band (frequency, gain): it may fold into the band
+        # at the ADC or at the stage, where the chain less its gain must still give the
+        # required rejection (docs/model.md §1, the rule's explanation).
+        if rng.random() < 0.7:
+            # Aimed into an image band of the ADC or of the stage (n·fs ± B), most often.
+            fs_k = fs / stage[0] if stage and rng.random() < 0.5 else fs
+            f = float(fs_k) * rng.randint(1, 2) + band * rng.uniform(-0.95, 0.95)
+        else:
+            f = float(fs) * rng.uniform(0.55, 2.6)
+        resonance = (Fraction(str(round(max(f, 1.5 * band), 1))), float(rng.randint(5, 40)))
     return dict(name=f"ch-{i:03d}", root_text=root_text, root=root, divide=divide, fs=fs,
-                band=band, filters=filters, sensor=sensor, stage=stage, modulator=modulator)
+                band=band, filters=filters, sensor=sensor, stage=stage, modulator=modulator,
+                resonance=resonance)
 
 
 def rig_text(channels):
@@ -228,9 +244,13 @@ def rig_text(channels):
     for c in channels:
         if c["sensor"]:
             lines.append(f"  - {{ name: {c['name']}-sensor, bandwidth: 1 GHz, response: [{yaml_filter(*c['sensor'])}] }}")
+        elif c["resonance"]:
+            fr, gain = c["resonance"]
+            lines.append(f"  - {{ name: {c['name']}-sensor, bandwidth: 1 GHz, "
+                         f"resonance: {{ frequency: {float(fr)} Hz, gain: {gain} dB }} }}")
     lines.append("channels:")
     for c in channels:
-        sensor = f"{c['name']}-sensor" if c["sensor"] else "plain"
+        sensor = f"{c['name']}-sensor" if c["sensor"] or c["resonance"] else "plain"
         fl = ", ".join(yaml_filter(*f) for f in c["filters"])
         dec = ""
         if c["stage"]:
@@ -417,9 +437,35 @@ LIMIT = 20               # built-in oversampling limit
 NEAR_DB = 0.01
 
 
+def fold(f, fs):
+    """Where `f` lands when sampled at `fs`: |f − round(f/fs)·fs| (exact fractions)."""
+    return abs(f - round(f / fs) * fs)
+
+
+def resonance_ref(c, rates, k):
+    """The net attenuation (dB) of the sensor resonance at rate change k when it folds
+    into the band there: it lies above the band before k (where the earlier rate changes
+    left it) and lands inside it at k. The chain's attenuation at the resonance
+    (scipy.signal.freqs; at the stage, plus the sinc at its input rate) less its gain.
+    None when it does not fold in at k."""
+    if not c["resonance"]:
+        return None
+    fr, gain = c["resonance"]
+    band = Fraction(str(c["band"]))
+    arrives = fr if k == 0 else fold(fr, rates[k - 1])
+    if arrives <= band or fold(fr, rates[k]) > band:
+        return None
+    att = attenuation_db(chain_of(c), float(fr))
+    if k == 1:
+        m, order = c["stage"]
+        att += cic_db(order, m, float(c["fs"]), float(fr))
+    return att - gain
+
+
 def expected_findings(c):
     """The rate findings a channel must get: {rule: stage or None}, and the rules too
-    close to their threshold to compare."""
+    close to their threshold to compare; with the worst alias check's (frequency, dB)
+    under `worst` when the resonance is the worst by more than 0.05 dB."""
     chain = chain_of(c)
     band = Fraction(str(c["band"]))
     rates = [c["fs"]]
@@ -434,16 +480,25 @@ def expected_findings(c):
     if margin is not None:
         expected["sampling-margin"] = margin
     worst = None
+    candidates = []
     for k, fs in enumerate(checked):
         # A converter's own filter (150 dB stopband, periodic in the modulator rate)
         # guards its ADC images; its modulator images meet the analog chain alone.
         _, a = modulator_ref(c) if c["modulator"] else worst_image_ref(c, k)
+        candidates.append((a, k, None))
+        net = resonance_ref(c, rates, k)
+        if net is not None:
+            candidates.append((net, k, c["resonance"][0]))
+    for a, k, fr in candidates:
         if abs(a - REQUIRED_DB) < 0.05:
             unsure.add("alias-rejection")
         if a < REQUIRED_DB and (worst is None or a < worst[1]):
-            worst = (k, a)
+            worst = (k, a, fr)
     if worst is not None:
         expected["alias-rejection"] = worst[0]
+        others = [a for a, k, fr in candidates if fr is None]
+        if worst[2] is not None and all(a > worst[1] + 0.05 for a in others):
+            expected["worst"] = (float(worst[2]), worst[1])
     droop = attenuation_db(chain, float(band))
     if c["stage"]:
         m, n = c["stage"]
@@ -469,7 +524,7 @@ def main():
     pairs = [make_pair(rng, i) for i in range(args.groups)]
     failures = []
     counts = {"adc alias": 0, "stage alias": 0, "findings": 0, "compared": 0, "interior worst": 0,
-              "modulator": 0, "latency": 0}
+              "modulator": 0, "latency": 0, "resonance worst": 0}
     with tempfile.TemporaryDirectory() as tmp:
         path = os.path.join(tmp, "oracle.rig.yaml")
         with open(path, "w") as f:
@@ -480,14 +535,16 @@ def main():
             failures.append(f"check: exit {out.returncode}: {out.stderr.strip()}")
             reported = {}
         else:
-            reported = {}
+            reported, alias_values = {}, {}
             for f in json.loads(out.stdout)["findings"]:
                 if f["rule"] in RATE_RULES and f.get("channel"):
                     reported.setdefault(f["channel"], {})[f["rule"]] = f["values"].get("stage")
+                if f["rule"] == "alias-rejection" and f.get("channel"):
+                    alias_values[f["channel"]] = f["values"]
         for c in channels:
             expected, unsure = expected_findings(c)
             got = reported.get(c["name"], {})
-            counts["findings"] += len(expected)
+            counts["findings"] += len([r for r in expected if r in RATE_RULES])
             for rule in RATE_RULES:
                 if rule in unsure:
                     continue
@@ -497,6 +554,15 @@ def main():
                                     f"the reference {'expects' if rule in expected else 'does not'}")
                 elif rule in expected and expected[rule] is not None and got[rule] != expected[rule]:
                     failures.append(f"{c['name']}: `{rule}` at stage {got[rule]}, the reference says {expected[rule]}")
+            if "worst" in expected and "alias-rejection" not in unsure and "alias-rejection" in got:
+                # The resonance is the worst case: reported at its frequency, with the net
+                # attenuation (the chain's less the gain).
+                counts["resonance worst"] += 1
+                fr, net = expected["worst"]
+                v = alias_values[c["name"]]
+                if abs(v["fold_from_hz"] - fr) > 1e-9 * fr or abs(v["attenuation_db"] - net) > 0.01 + 1e-6 * abs(net):
+                    failures.append(f"{c['name']}: resonance at {fr} Hz, net {net:.3f} dB expected; check says "
+                                    f"{v['fold_from_hz']} Hz, {v['attenuation_db']} dB")
         for c in channels:
             out = subprocess.run([args.binary, "inspect", path, c["name"], "--format", "json"],
                                  capture_output=True, text=True, check=False)
@@ -610,11 +676,13 @@ def main():
     print(f"{len(channels)} channels checked against scipy {__import__('scipy').__version__} "
           f"({counts['adc alias']} ADC folds, {counts['stage alias']} decimation-stage folds, "
           f"{counts['interior worst']} worst images beyond fs − B, {counts['modulator']} modulator checks, "
+          f"{counts['resonance worst']} folding sensor resonances reported as the worst case, "
           f"{counts['latency']} latencies; "
           f"{counts['compared']} rule verdicts of `check` compared, {counts['findings']} findings expected): "
           f"{len(failures)} mismatches")
     if (counts["adc alias"] == 0 or counts["stage alias"] == 0 or counts["findings"] < 20
-            or counts["modulator"] == 0 or counts["interior worst"] == 0):
+            or counts["modulator"] == 0 or counts["interior worst"] == 0
+            or counts["resonance worst"] == 0):
         print("  the random rigs exercised too little: change the seed or the channel count")
         failures.append("coverage")
     for f in failures[:40]:
