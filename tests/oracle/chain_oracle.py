@@ -75,6 +75,9 @@ from fractions import Fraction
 import numpy as np
 from scipy import signal
 
+sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
+from run_check import check_json  # noqa: E402
+
 ROOTS = [("24.576 MHz", Fraction(24_576_000)), ("10 MHz", Fraction(10_000_000)),
          ("12.288 MHz", Fraction(12_288_000)), ("44.1 kHz", Fraction(44_100))]
 
@@ -340,14 +343,9 @@ def pair_rig(pairs):
 
 
 def check_groups(binary, pairs, tmp, failures):
-    path = os.path.join(tmp, "groups.rig.yaml")
-    with open(path, "w") as f:
-        f.write(pair_rig(pairs))
-    out = subprocess.run([binary, "check", path, "--format", "json"],
-                         capture_output=True, text=True, check=False)
-    report = json.loads(out.stdout)
+    _, findings = check_json(binary, tmp, "groups", pair_rig(pairs), failures)
     found = {}
-    for x in report["findings"]:
+    for x in findings or []:
         if x["rule"] == "group-phase":
             found[x["message"].split("`")[1]] = x["values"]
     checked = 0
@@ -526,17 +524,10 @@ def main():
     counts = {"adc alias": 0, "stage alias": 0, "findings": 0, "compared": 0, "interior worst": 0,
               "modulator": 0, "latency": 0, "resonance worst": 0}
     with tempfile.TemporaryDirectory() as tmp:
-        path = os.path.join(tmp, "oracle.rig.yaml")
-        with open(path, "w") as f:
-            f.write(rig_text(channels))
-        out = subprocess.run([args.binary, "check", path, "--format", "json"],
-                             capture_output=True, text=True, check=False)
-        if out.returncode not in (0, 1):
-            failures.append(f"check: exit {out.returncode}: {out.stderr.strip()}")
-            reported = {}
-        else:
-            reported, alias_values = {}, {}
-            for f in json.loads(out.stdout)["findings"]:
+        path, findings = check_json(args.binary, tmp, "oracle", rig_text(channels), failures)
+        reported, alias_values = {}, {}
+        if findings is not None:
+            for f in findings:
                 if f["rule"] in RATE_RULES and f.get("channel"):
                     reported.setdefault(f["channel"], {})[f["rule"]] = f["values"].get("stage")
                 if f["rule"] == "alias-rejection" and f.get("channel"):

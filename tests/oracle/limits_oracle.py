@@ -21,15 +21,15 @@ Each rig has two oscillators, a tree of clocks derived from each (`divide`, some
 Usage: limits_oracle.py PATH/TO/foldcheck [--rigs N] [--seed S]
 Exits 1 on any mismatch.
 """
-import argparse
-import json
 import os
 import random
 import re
-import subprocess
 import sys
 import tempfile
 from fractions import Fraction
+
+sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
+from run_check import arguments, check_json, finish, flow_item  # noqa: E402
 
 OSCILLATORS = [("24.576 MHz", Fraction(24_576_000)), ("25.6 MHz", Fraction(25_600_000)),
                ("10 MHz", Fraction(10_000_000)), ("12.288 MHz", Fraction(12_288_000))]
@@ -133,15 +133,11 @@ def rig_yaml(rig):
         lines.append(f"  - {{ name: {s['name']}, bandwidth: {s['bandwidth']} Hz }}")
     lines.append("channels:")
     for c in rig["channels"]:
-        parts = [f"name: {c['name']}", f"clock: {c['clock']['name']}", f"band: {float(c['band'])} Hz",
-                 "filters: []"]
-        if c["module"]:
-            parts.append(f"module: {c['module']['name']}")
-        if c["sensor"]:
-            parts.append(f"sensor: {c['sensor']['name']}")
-        if c["factor"]:
-            parts.append(f"decimate: [{{ factor: {c['factor']} }}]")
-        lines.append("  - { " + ", ".join(parts) + " }")
+        lines.append(flow_item(
+            ("name", c["name"]), ("clock", c["clock"]["name"]), ("band", f"{float(c['band'])} Hz"),
+            ("filters", "[]"), ("module", c["module"] and c["module"]["name"]),
+            ("sensor", c["sensor"] and c["sensor"]["name"]),
+            ("decimate", c["factor"] and f"[{{ factor: {c['factor']} }}]")))
     if rig["groups"]:
         lines.append("groups:")
         for g in rig["groups"]:
@@ -176,11 +172,7 @@ def expected(rig):
 
 
 def main():
-    ap = argparse.ArgumentParser()
-    ap.add_argument("binary")
-    ap.add_argument("--rigs", type=int, default=60)
-    ap.add_argument("--seed", type=int, default=20261203)
-    args = ap.parse_args()
+    args = arguments(60, 20261203)
     rng = random.Random(args.seed)
     failures = []
     counts = dict.fromkeys(["channels", "module-rate", "sensor-band", "unused-clock", "group-clock",
@@ -188,15 +180,9 @@ def main():
     with tempfile.TemporaryDirectory() as tmp:
         for r in range(args.rigs):
             rig = make_rig(rng, r)
-            path = os.path.join(tmp, f"{rig['name']}.rig.yaml")
-            with open(path, "w") as f:
-                f.write(rig_yaml(rig))
-            out = subprocess.run([args.binary, "check", path, "--format", "json"],
-                                 capture_output=True, text=True, check=False)
-            if out.returncode not in (0, 1):
-                failures.append(f"{rig['name']}: exit {out.returncode}: {out.stderr.strip()}")
+            _, findings = check_json(args.binary, tmp, rig["name"], rig_yaml(rig), failures)
+            if findings is None:
                 continue
-            findings = json.loads(out.stdout)["findings"]
             got = {rule: set() for rule in ("module-rate", "sensor-band", "unused-clock", "group-clock")}
             for f in findings:
                 if f["rule"] in ("schema", "quantity", "unknown-reference", "yaml-syntax", "clock-cycle"):
@@ -222,13 +208,10 @@ def main():
                 1 for c in rig["channels"]
                 if (c["module"] and c["clock"]["rate"] == c["module"]["max_rate"])
                 or (c["sensor"] and c["band"] == c["sensor"]["bandwidth"]))
-    for f in failures[:40]:
-        print("MISMATCH", f)
-    print(f"{args.rigs} rigs, {counts['channels']} channels, {counts['groups']} groups "
-          f"({counts['limits met exactly']} limits met exactly): expected {counts['module-rate']} module-rate, "
-          f"{counts['sensor-band']} sensor-band, {counts['unused-clock']} unused-clock, "
-          f"{counts['group-clock']} group-clock findings: {len(failures)} mismatches")
-    sys.exit(1 if failures else 0)
+    finish(f"{args.rigs} rigs, {counts['channels']} channels, {counts['groups']} groups "
+           f"({counts['limits met exactly']} limits met exactly): expected {counts['module-rate']} module-rate, "
+           f"{counts['sensor-band']} sensor-band, {counts['unused-clock']} unused-clock, "
+           f"{counts['group-clock']} group-clock findings", failures)
 
 
 if __name__ == "__main__":

@@ -34,18 +34,16 @@ and a limit met exactly never happens here (limits are at least 1 % away).
 Usage: tone_budget_oracle.py PATH/TO/foldcheck [--rigs N] [--seed S]
 Exits 1 on any mismatch.
 """
-import argparse
-import json
 import math
 import os
 import random
-import subprocess
 import sys
 import tempfile
 from fractions import Fraction
 
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
 from chain_oracle import ROOTS, attenuation_db, random_filters, yaml_filter  # noqa: E402
+from run_check import arguments, check_json, finish, flow_item  # noqa: E402
 
 DURATIONS = [("90 min", 5400), ("1 h", 3600), ("24 h", 86_400), ("2 d", 172_800)]
 
@@ -156,36 +154,25 @@ def rig_yaml(rig):
         lines.append(f"  - {{ name: {c['name']}-clk, source: osc, divide: {c['divide']} }}")
     lines.append("modules:")
     for m in rig["modules"]:
-        parts = [f"name: {m['name']}"]
-        if m["adc_bits"]:
-            parts.append(f"adc-bits: {m['adc_bits']}")
-        if m["sample_bits"]:
-            parts.append(f"sample-bits: {m['sample_bits']}")
-        if m["throughput"]:
-            parts.append(f"throughput: {m['throughput'][0]}")
-        lines.append("  - { " + ", ".join(parts) + " }")
+        lines.append(flow_item(("name", m["name"]), ("adc-bits", m["adc_bits"]),
+                               ("sample-bits", m["sample_bits"]),
+                               ("throughput", m["throughput"] and m["throughput"][0])))
     lines.append("channels:")
     for c in rig["channels"]:
-        parts = [f"name: {c['name']}", f"clock: {c['name']}-clk", f"band: {c['band']} Hz",
-                 "filters: [" + ", ".join(yaml_filter(*f) for f in c["filters"]) + "]"]
-        if c["module"]:
-            parts.append(f"module: {c['module']['name']}")
-        if c["factor"]:
-            parts.append(f"decimate: [{{ factor: {c['factor']} }}]")
-        if c["rejection"] is not None:
-            parts.append(f"alias-rejection: {c['rejection']} dB")
-        if c["bits"]:
-            parts.append(f"sample-bits: {c['bits']}")
-        lines.append("  - { " + ", ".join(parts) + " }")
+        lines.append(flow_item(
+            ("name", c["name"]), ("clock", f"{c['name']}-clk"), ("band", f"{c['band']} Hz"),
+            ("filters", "[" + ", ".join(yaml_filter(*f) for f in c["filters"]) + "]"),
+            ("module", c["module"] and c["module"]["name"]),
+            ("decimate", c["factor"] and f"[{{ factor: {c['factor']} }}]"),
+            ("alias-rejection", None if c["rejection"] is None else f"{c['rejection']} dB"),
+            ("sample-bits", c["bits"])))
     if rig["tones"]:
         lines.append("disturbances:")
         for t in rig["tones"]:
-            parts = [f"name: {t['name']}", f"frequency: {t['f_text']}"]
-            if t["level"] is not None:
-                parts.append(f"level: {t['level']} dB")
-            if t["channels"] is not None:
-                parts.append("channels: [" + ", ".join(t["channels"]) + "]")
-            lines.append("  - { " + ", ".join(parts) + " }")
+            lines.append(flow_item(
+                ("name", t["name"]), ("frequency", t["f_text"]),
+                ("level", None if t["level"] is None else f"{t['level']} dB"),
+                ("channels", None if t["channels"] is None else "[" + ", ".join(t["channels"]) + "]")))
     lg = rig["logger"]
     lines += ["logger:",
               f"  throughput: {lg['throughput'][0]}",
@@ -227,15 +214,9 @@ def close(a, b, rel=1e-9):
 
 
 def check_rig(binary, rig, tmp, failures, counts):
-    path = os.path.join(tmp, f"{rig['name']}.rig.yaml")
-    with open(path, "w") as f:
-        f.write(rig_yaml(rig))
-    out = subprocess.run([binary, "check", path, "--format", "json"],
-                         capture_output=True, text=True, check=False)
-    if out.returncode not in (0, 1):
-        failures.append(f"{rig['name']}: exit {out.returncode}: {out.stderr.strip()}")
+    _, findings = check_json(binary, tmp, rig["name"], rig_yaml(rig), failures)
+    if findings is None:
         return
-    findings = json.loads(out.stdout)["findings"]
     for f in findings:
         if f["rule"] in ("schema", "quantity", "unknown-reference", "yaml-syntax"):
             failures.append(f"{rig['name']}: the generated rig is refused: {f['message']}")
@@ -303,11 +284,7 @@ def check_rig(binary, rig, tmp, failures, counts):
 
 
 def main():
-    ap = argparse.ArgumentParser()
-    ap.add_argument("binary")
-    ap.add_argument("--rigs", type=int, default=40)
-    ap.add_argument("--seed", type=int, default=20261202)
-    args = ap.parse_args()
+    args = arguments(40, 20261202)
     rng = random.Random(args.seed)
     failures = []
     counts = dict.fromkeys(["pairs", "failing pairs", "values compared", "skipped", "budgets",
@@ -315,13 +292,10 @@ def main():
     with tempfile.TemporaryDirectory() as tmp:
         for r in range(args.rigs):
             check_rig(args.binary, make_rig(rng, r), tmp, failures, counts)
-    for f in failures[:40]:
-        print("MISMATCH", f)
-    print(f"{args.rigs} rigs: {counts['pairs']} (channel, tone) pairs compared "
-          f"({counts['failing pairs']} failing, {counts['values compared']} with their values; "
-          f"{counts['skipped']} on a threshold, not compared), {counts['budgets']} budgets "
-          f"({counts['budget findings']} exceeded): {len(failures)} mismatches")
-    sys.exit(1 if failures else 0)
+    finish(f"{args.rigs} rigs: {counts['pairs']} (channel, tone) pairs compared "
+           f"({counts['failing pairs']} failing, {counts['values compared']} with their values; "
+           f"{counts['skipped']} on a threshold, not compared), {counts['budgets']} budgets "
+           f"({counts['budget findings']} exceeded)", failures)
 
 
 if __name__ == "__main__":
