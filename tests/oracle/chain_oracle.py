@@ -15,7 +15,11 @@ channel, and recomputes independently:
 - for channels with a sinc (CIC) decimation stage: the stage's rate, its worst image and
   the attenuation there: the analog chain plus the CIC, the latter as N cascaded M-tap
   moving averages evaluated with scipy.signal.freqz at the stage's input rate (E.
-  Hogenauer, IEEE Trans. ASSP 29, 1981, from memory);
+  Hogenauer, IEEE Trans. ASSP 29, 1981, from memory); some stages carry a `digital`
+  filter instead (docs/model.md §2–3: 0 dB to the passband edge, linear in dB across
+  the transition, the stopband value above, edges as fractions of the output rate,
+  periodic in the input rate; its stopband edge sometimes past half the output rate),
+  with its `delay-samples` in the latency;
 - the worst image beyond the first (`fold_from_hz`, docs/model.md §3): some sensors carry
   a notched datasheet `table` (linear in dB over log-frequency, numpy.interp), and every
   image band [n·fs − B, n·fs + B] (for a stage, n not a multiple of its factor) up to one
@@ -173,6 +177,38 @@ def cic_db(order, factor, fin, f):
     return math.inf if mag == 0 else -20 * math.log10(mag)
 
 
+def digital_vec(edges, fin, fout, f):
+    """A `digital` decimation filter (docs/model.md §2, §3): 0 dB up to the passband edge,
+    linear in dB over linear frequency across the transition, the stopband value above;
+    edges are fractions of the stage's output rate `fout`; it runs at the input rate
+    `fin` and so is periodic in it: evaluated at |f − round(f/fin)·fin|."""
+    pe, se, stop, _ = edges
+    f = np.asarray(f, dtype=float)
+    g = np.abs(f - np.round(f / fin) * fin)
+    lo, hi = pe * fout, se * fout
+    return np.clip((g - lo) / (hi - lo), 0.0, 1.0) * stop
+
+
+def stage_db(c, f):
+    """The decimation stage's own filter at `f` (sinc or digital), dB."""
+    m, order = c["stage"]
+    fs0 = float(c["fs"])
+    if c["digital"]:
+        return digital_vec(c["digital"], fs0, fs0 / m, f)
+    return cic_vec(order, m, fs0, f) if np.ndim(f) else cic_db(order, m, fs0, f)
+
+
+def stage_delay_s(c):
+    """The stage's delay: the sinc's N·(M − 1)/2 input samples (Hogenauer 1981, from
+    memory), or the digital filter's `delay-samples` of the output rate."""
+    if not c["stage"]:
+        return 0.0
+    m, order = c["stage"]
+    if c["digital"]:
+        return c["digital"][3] / (float(c["fs"]) / m)
+    return order * (m - 1) / 2 / float(c["fs"])
+
+
 def yaml_filter(kind, order=None, cutoff=None, ripple=None):
     if kind == "table":
         pts = ", ".join(f"[{fq} Hz, {db} dB]" for fq, db in order)
@@ -206,8 +242,15 @@ def make_channel(rng, i):
                             (round(1.2 * f0, 3), 100.0),
                             (round(rng.uniform(1.5, 2.6) * f0, 3), float(rng.randint(3, 60)))])
     stage = None
+    digital = None
     if rng.random() < 0.4:
         stage = (rng.randint(2, 8), rng.randint(1, 5))  # (factor M, order N)
+        if rng.random() < 0.4:
+            # A `digital` stage filter instead of the sinc: edges as fractions of the
+            # output rate (the stopband edge sometimes past its half, where images fold
+            # in), its stopband value, and its delay in output samples.
+            digital = (round(rng.uniform(0.3, 0.45), 3), round(rng.uniform(0.5, 0.7), 3),
+                       float(rng.choice([60, 80, 100, 120])), round(rng.uniform(5, 60), 1))
     modulator = None
     if stage is None and (sensor is None or sensor[0] != "table") and float(fs) >= 2.5 * band \
             and rng.random() < 0.3:
@@ -228,7 +271,7 @@ def make_channel(rng, i):
         resonance = (Fraction(str(round(max(f, 1.5 * band), 1))), float(rng.randint(5, 40)))
     return dict(name=f"ch-{i:03d}", root_text=root_text, root=root, divide=divide, fs=fs,
                 band=band, filters=filters, sensor=sensor, stage=stage, modulator=modulator,
-                resonance=resonance)
+                resonance=resonance, digital=digital)
 
 
 def rig_text(channels):
@@ -256,7 +299,11 @@ def rig_text(channels):
         sensor = f"{c['name']}-sensor" if c["sensor"] or c["resonance"] else "plain"
         fl = ", ".join(yaml_filter(*f) for f in c["filters"])
         dec = ""
-        if c["stage"]:
+        if c["stage"] and c["digital"]:
+            pe, se, stop, samples = c["digital"]
+            dec = (f", decimate: [{{ factor: {c['stage'][0]}, filter: {{ response: digital, passband-edge: {pe}, "
+                   f"stopband-edge: {se}, attenuation: {stop} dB, delay-samples: {samples} }} }}]")
+        elif c["stage"]:
             m, n = c["stage"]
             dec = f", decimate: [{{ factor: {m}, filter: {{ response: sinc, order: {n} }} }}]"
         module = f", module: ds-{c['modulator']}" if c["modulator"] else ""
@@ -409,8 +456,7 @@ def worst_image_ref(c, k):
         grid = np.concatenate([np.linspace(lo, hi, 401), [p for p in table_pts if lo < p < hi]])
         a = attenuation_vec(chain, grid)
         if k == 1:
-            m, order = c["stage"]
-            a = a + cic_vec(order, m, fs0, grid)
+            a = a + stage_db(c, grid)
         i = int(np.argmin(a))
         if a[i] < best[1]:
             best = (float(grid[i]), float(a[i]))
@@ -455,8 +501,7 @@ def resonance_ref(c, rates, k):
         return None
     att = attenuation_db(chain_of(c), float(fr))
     if k == 1:
-        m, order = c["stage"]
-        att += cic_db(order, m, float(c["fs"]), float(fr))
+        att += float(stage_db(c, float(fr)))
     return att - gain
 
 
@@ -499,8 +544,7 @@ def expected_findings(c):
             expected["worst"] = (float(worst[2]), worst[1])
     droop = attenuation_db(chain, float(band))
     if c["stage"]:
-        m, n = c["stage"]
-        droop += cic_db(n, m, float(c["fs"]), float(band))
+        droop += float(stage_db(c, float(band)))
     if abs(droop - TOLERANCE_DB) < NEAR_DB:
         unsure.add("passband-droop")
     if droop > TOLERANCE_DB:
@@ -622,7 +666,7 @@ def main():
             want_pb = attenuation_db(chain, band)
             if c["stage"]:
                 m, n = c["stage"]
-                want_pb += cic_db(n, m, fs, band)
+                want_pb += float(stage_db(c, band))
                 a1 = r["analysis"]["rate_changes"][1]
                 fs1 = fs / m
                 check("stage 1 rate", a1["rate_hz"], fs1, 1e-9 * fs1)
@@ -640,7 +684,7 @@ def main():
                             failures.append(f"{c['name']}: stage 1 fold_from {f1} outside its image bands")
                         if abs(f1 - (fs1 - band)) > 1e-6 * fs1:
                             counts["interior worst"] += 1
-                        want = attenuation_db(chain, f1) + cic_db(n, m, fs, f1)
+                        want = attenuation_db(chain, f1) + float(stage_db(c, f1))
                         got = a1["alias"]["attenuation_db"]
                         if not (want > 300 and got >= 299.999):
                             check("stage 1 attenuation at its worst image (dB)", got, want, 0.01 + 1e-6 * want)
@@ -654,7 +698,7 @@ def main():
             # analog group delay at DC, Σ −Re(p)/|p|² over scipy's poles; the group delay
             # at the band edge against a numerical derivative of scipy's phase.
             lat = r["analysis"]["latency"]
-            digital = c["stage"][1] * (c["stage"][0] - 1) / 2 / fs if c["stage"] else 0.0
+            digital = stage_delay_s(c)
             dc = dc_group_delay_s(chain)
             check("analog group delay at DC (s)", lat["analog_group_delay_dc_s"], dc, 1e-12 + 1e-9 * dc)
             check("latency (s)", lat["latency_s"], dc + digital, 1e-12 + 1e-9 * (dc + digital))
