@@ -22,7 +22,6 @@ Usage: limits_oracle.py PATH/TO/foldcheck [--rigs N] [--seed S]
 Exits 1 on any mismatch.
 """
 import os
-import random
 import re
 import sys
 import tempfile
@@ -172,8 +171,7 @@ def expected(rig):
 
 
 def main():
-    args = arguments(60, 20261203)
-    rng = random.Random(args.seed)
+    args, rng = arguments(60, 20261203)
     failures = []
     counts = dict.fromkeys(["channels", "module-rate", "sensor-band", "unused-clock", "group-clock",
                             "groups", "limits met exactly"], 0)

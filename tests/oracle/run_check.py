@@ -2,17 +2,20 @@
 import argparse
 import json
 import os
+import random
 import subprocess
 import sys
 
 
 def arguments(rigs, seed):
-    """The command line of a rig-by-rig oracle: the binary, how many rigs, the seed."""
+    """The command line of a rig-by-rig oracle (the binary, how many rigs, the seed) and
+    the random generator seeded from it."""
     ap = argparse.ArgumentParser()
     ap.add_argument("binary")
     ap.add_argument("--rigs", type=int, default=rigs)
     ap.add_argument("--seed", type=int, default=seed)
-    return ap.parse_args()
+    args = ap.parse_args()
+    return args, random.Random(args.seed)
 
 
 def check_json(binary, tmp, name, text, failures):

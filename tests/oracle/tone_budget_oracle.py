@@ -36,7 +36,6 @@ Exits 1 on any mismatch.
 """
 import math
 import os
-import random
 import sys
 import tempfile
 from fractions import Fraction
@@ -284,8 +283,7 @@ def check_rig(binary, rig, tmp, failures, counts):
 
 
 def main():
-    args = arguments(40, 20261202)
-    rng = random.Random(args.seed)
+    args, rng = arguments(40, 20261202)
     failures = []
     counts = dict.fromkeys(["pairs", "failing pairs", "values compared", "skipped", "budgets",
                             "budget findings"], 0)
