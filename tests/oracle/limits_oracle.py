@@ -16,7 +16,10 @@ Each rig has two oscillators, a tree of clocks derived from each (`divide`, some
 - `unused-clock`: every clock that drives no channel, directly or through clocks derived
   from it (the set of clocks named is compared).
 - `group-clock`: the members of a group do not share one root oscillator, or do not end
-  at one final rate (exact).
+  at one final rate (exact); a member with an error of its own is left out.
+- a delta-sigma module's modulator `rate` that is not an integer multiple of a channel's
+  ADC rate (docs/model.md §4): one `quantity` finding per such ADC rate, naming its first
+  channel and how many more share it.
 
 Usage: limits_oracle.py PATH/TO/foldcheck [--rigs N] [--seed S]
 Exits 1 on any mismatch.
@@ -81,6 +84,14 @@ def make_rig(rng, r):
                 mod["rates"] = {hz for hz, _ in listed}
                 mod["texts"].append("rates: [" + ", ".join(t for _, t in listed) + "]")
         modules.append(mod)
+    if rng.random() < 0.6:
+        # A delta-sigma module whose modulator `rate` is a multiple of one clock's rate,
+        # and so not of some others (docs/model.md §4: a `quantity` finding per ADC rate).
+        hz = rng.choice(rates) * rng.choice([16, 32, 64, 128, 100]) * rng.choice([1, 1, Fraction(7, 3)])
+        text = exact_text(rng, hz)
+        if text:
+            modules.append(dict(name="ds-card", max_rate=None, rates=None, modulator=hz,
+                                texts=[f"modulator: {{ rate: {text} }}"]))
     sensors = [dict(name=f"sens-{s}", bandwidth=Fraction(rng.choice([500, 1000, 2000, 5000, 10_000, 20_000])))
                for s in range(3)]
     channels = []
@@ -97,6 +108,15 @@ def make_rig(rng, r):
             band = Fraction(1, 100)
         channels.append(dict(name=f"r{r}-ch{i}", clock=clock, factor=factor, final=final,
                              module=rng.choice([None] + modules), sensor=sensor, band=band))
+    for c in channels:
+        if c["module"] and c["module"].get("modulator") and rng.random() < 0.5:
+            # Often on a clock whose rate divides the modulator's.
+            fits = [k for k in clocks if (c["module"]["modulator"] / k["rate"]).denominator == 1]
+            if fits:
+                c["clock"] = rng.choice(fits)
+                c["final"] = c["clock"]["rate"] / c["factor"] if c["factor"] else c["clock"]["rate"]
+                if c["sensor"] is None:
+                    c["band"] = Fraction(str(round(float(c["final"]) / rng.uniform(2.6, 12.0), 2)))
     for mod in modules:
         # Often the limit is exactly the ADC rate of one of the module's channels.
         on = [c for c in channels if c["module"] is mod]
@@ -144,6 +164,12 @@ def rig_yaml(rig):
     return "\n".join(lines) + "\n"
 
 
+def misfit(c):
+    """The channel's module has a modulator whose rate is not a multiple of its ADC rate."""
+    m = c["module"]
+    return bool(m and m.get("modulator") and (m["modulator"] / c["clock"]["rate"]).denominator != 1)
+
+
 def expected(rig):
     module_rate, sensor_band = set(), set()
     for c in rig["channels"]:
@@ -164,26 +190,35 @@ def expected(rig):
     chans = {c["name"]: c for c in rig["channels"]}
     group_clock = set()
     for g in rig["groups"]:
-        members = [chans[n] for n in g["members"]]
+        # A member with an error of its own (here: a modulator rate that is not a
+        # multiple of its ADC rate) is left out of the comparison (docs/format.md, groups).
+        members = [chans[n] for n in g["members"] if not misfit(chans[n])]
         if len({m["clock"]["root"] for m in members}) > 1 or len({m["final"] for m in members}) > 1:
             group_clock.add(g["name"])
-    return module_rate, sensor_band, unused, group_clock
+    misfits = {}
+    for c in rig["channels"]:
+        if misfit(c):
+            misfits.setdefault(c["clock"]["rate"], []).append(c["name"])
+    modulator = {(names[0], len(names) - 1) for names in misfits.values()}
+    return module_rate, sensor_band, unused, group_clock, modulator
 
 
 def main():
     args, rng = arguments(60, 20261203)
     failures = []
     counts = dict.fromkeys(["channels", "module-rate", "sensor-band", "unused-clock", "group-clock",
-                            "groups", "limits met exactly"], 0)
+                            "modulator", "groups", "limits met exactly"], 0)
     with tempfile.TemporaryDirectory() as tmp:
         for r in range(args.rigs):
             rig = make_rig(rng, r)
             _, findings = check_json(args.binary, tmp, rig["name"], rig_yaml(rig), failures)
             if findings is None:
                 continue
-            got = {rule: set() for rule in ("module-rate", "sensor-band", "unused-clock", "group-clock")}
+            got = {rule: set() for rule in ("module-rate", "sensor-band", "unused-clock", "group-clock",
+                                            "modulator")}
             for f in findings:
-                if f["rule"] in ("schema", "quantity", "unknown-reference", "yaml-syntax", "clock-cycle"):
+                if f["rule"] in ("schema", "unknown-reference", "yaml-syntax", "clock-cycle") or (
+                        f["rule"] == "quantity" and "not an integer multiple" not in f["message"]):
                     failures.append(f"{rig['name']}: the generated rig is refused: {f['message']}")
                 if f["rule"] in ("module-rate", "sensor-band"):
                     got[f["rule"]].add(f["channel"])
@@ -192,10 +227,14 @@ def main():
                         if abs(f["values"]["rate_hz"] - float(c["clock"]["rate"])) > 1e-9 * float(c["clock"]["rate"]):
                             failures.append(f"{c['name']}: module-rate rate_hz {f['values']['rate_hz']}, "
                                             f"ADC rate {float(c['clock']['rate'])}")
+                elif f["rule"] == "quantity" and "not an integer multiple" in f["message"]:
+                    m = re.search(r"of channel `([^`]+)`(?: and (\d+) more)?", f["message"])
+                    got["modulator"].add((m.group(1), int(m.group(2) or 0)) if m else f["message"])
                 elif f["rule"] in ("unused-clock", "group-clock"):
                     m = re.match(r"(?:clock|group) `([^`]+)`", f["message"])
                     got[f["rule"]].add(m.group(1) if m else f["message"])
-            want = dict(zip(("module-rate", "sensor-band", "unused-clock", "group-clock"), expected(rig)))
+            want = dict(zip(("module-rate", "sensor-band", "unused-clock", "group-clock", "modulator"),
+                            expected(rig)))
             for rule, names in want.items():
                 counts[rule] += len(names)
                 if names != got[rule]:
@@ -209,7 +248,8 @@ def main():
     finish(f"{args.rigs} rigs, {counts['channels']} channels, {counts['groups']} groups "
            f"({counts['limits met exactly']} limits met exactly): expected {counts['module-rate']} module-rate, "
            f"{counts['sensor-band']} sensor-band, {counts['unused-clock']} unused-clock, "
-           f"{counts['group-clock']} group-clock findings", failures)
+           f"{counts['group-clock']} group-clock findings, {counts['modulator']} modulator rates that are "
+           f"not a multiple of an ADC rate", failures)
 
 
 if __name__ == "__main__":
