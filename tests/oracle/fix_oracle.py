@@ -6,7 +6,7 @@ and filters that fail the rate rules).
 
 For every finding that carries a `fix` (docs/output.md: byte offsets, end exclusive),
 the edits are applied here, in Python, to a copy of the campaign, and `check` runs
-again. The promise checked (README, "Fixes"): the finding's fingerprint is gone, and no
+again. The promise checked (docs/output.md, `fix`; README, "Fixing findings"): the finding's fingerprint is gone, and no
 fingerprint that was not there before appears at `warning` or above; each edit replaces
 the bytes of one value (no line break, no comment), and its line and column agree with
 its byte offset (1-based, columns in Unicode characters).

@@ -43,6 +43,15 @@ def bounds(f_img, band, need, n):
     return lower, upper
 
 
+def lowest_order(f_img, band, need):
+    """The lowest Butterworth order for which some cutoff meets both bounds."""
+    for n in range(1, 64):
+        lower, upper = bounds(f_img, band, need, n)
+        if lower <= upper:
+            return n
+    raise ValueError("no order below 64 can")
+
+
 def hz(text):
     value, unit = text.split()
     return float(value) * UNITS[unit]
@@ -85,7 +94,7 @@ def main():
                 if f is None:
                     failures.append(f"{c['name']}: no modulator-image finding with 0 dB of analog filtering")
                     continue
-                n = next(n for n in range(1, 64) if (lambda lo, hi: lo <= hi)(*bounds(f_img, c["band"], c["need"], n)))
+                n = lowest_order(f_img, c["band"], c["need"])
                 m = re.search(r"order: (\d+), cutoff: ([0-9.]+ [kMG]?Hz)", f.get("help") or "")
                 if not m:
                     failures.append(f"{c['name']}: the help proposes no Butterworth front end: {f.get('help')}")
